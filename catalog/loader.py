@@ -19,11 +19,12 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-from pydantic import BaseModel, ValidationError
+from pydantic import BaseModel
 
 from models import geometry, winding
 
 from .schema import Copper, Costs, Family, Litz, Material, RoundWireRule, Shape
+from .validation import validate_entry
 
 FILE_NAMES = ("materials.toml", "shapes.toml", "wires.toml", "costs.toml")
 
@@ -47,26 +48,7 @@ def _read_toml(path: Path) -> dict:
 
 
 def _validated(model: type[BaseModel], raw, path: Path, kind: str, entry_id: str):
-    """Validate ``raw`` against ``model``; turn the first error into one readable line."""
-    if not isinstance(raw, dict):
-        raise CatalogError(f"{path}: {kind} '{entry_id}': expected a table of fields, got {raw!r}")
-    try:
-        return model.model_validate(raw)
-    except ValidationError as exc:
-        err = exc.errors(include_url=False)[0]
-        where = ".".join(str(p) for p in err["loc"]) or "(entry)"
-        value = err.get("input")
-        shown = "missing" if err["type"] == "missing" else json.dumps(value, default=str)
-        expected = err["msg"].removeprefix("Value error, ")
-        if err["type"] == "missing":
-            expected = "this field is required"
-        elif err["type"] == "extra_forbidden":
-            allowed = ", ".join(n if f.alias is None else f.alias for n, f in model.model_fields.items())
-            expected = f"unknown field; valid fields: {allowed}"
-        line = f"{path}: {kind} '{entry_id}': field '{where}' = {shown}: {expected}"
-        if where == "(entry)" or err["loc"] == ():
-            line = f"{path}: {kind} '{entry_id}': {expected}"
-        raise CatalogError(line) from None
+    return validate_entry(model, raw, f"{path}: {kind} '{entry_id}'", CatalogError)
 
 
 @dataclass(frozen=True)

@@ -118,6 +118,7 @@ class CoreGeometry:
     ae: np.ndarray              # effective cross-section [m2]
     ve: np.ndarray              # effective volume [m3]
     a_min: np.ndarray           # smallest cross-section along the path [m2]
+    gap_area: np.ndarray        # section of the leg that carries a discrete gap [m2]
     window_area: np.ndarray     # gross window area [m2] (ring: area of the hole)
     window_breadth: np.ndarray  # usable length along the leg for one layer, per coil [m]
     window_height: np.ndarray   # usable radial build per coil [m]
@@ -157,7 +158,7 @@ def e_pair(a, b, c, d, e, f, stack, bobbin_wall, round_leg=False):
     lengths, areas = _e_like_segments(a, b, depth, d, e, f, outer, centre)
     le, ae, ve = effective_parameters(lengths, areas)
     return CoreGeometry(
-        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1),
+        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1), gap_area=centre,
         window_area=2 * d * (e - f) / 2,
         window_breadth=2 * d - 2 * wall, window_height=(e - f) / 2 - wall,
         gap_window_height=2 * d, leg_perimeter=perimeter, bobbin_wall=wall,
@@ -180,7 +181,7 @@ def pq_pair(a, b, c, d, e, f, stack, bobbin_wall):
     lengths, areas = _e_like_segments(a, b, c, d, e, f, outer, centre)
     le, ae, ve = effective_parameters(lengths, areas)
     return CoreGeometry(
-        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1),
+        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1), gap_area=centre,
         window_area=2 * d * (e - f) / 2,
         window_breadth=2 * d - 2 * wall, window_height=(e - f) / 2 - wall,
         gap_window_height=2 * d, leg_perimeter=np.pi * f, bobbin_wall=wall,
@@ -203,7 +204,7 @@ def ring(od, id_, h, stack, bobbin_wall):
     le, ae, ve = ring_core_effective(id_ / 2, od / 2, height)
     radial = (od - id_) / 2
     return CoreGeometry(
-        le=le, ae=ae, ve=ve, a_min=radial * height,
+        le=le, ae=ae, ve=ve, a_min=radial * height, gap_area=radial * height,
         window_area=np.pi * (id_ / 2) ** 2,
         window_breadth=np.pi * (id_ - 2 * wall), window_height=id_ / 2 - wall,
         gap_window_height=height, leg_perimeter=2 * (radial + height), bobbin_wall=wall,
@@ -226,7 +227,7 @@ def cut_core_pair(a, b, c, d, stack, bobbin_wall):
     area = a * depth
     le = 2 * (c + d) + np.pi * a
     return CoreGeometry(
-        le=le, ae=area, ve=le * area, a_min=area,
+        le=le, ae=area, ve=le * area, a_min=area, gap_area=area,
         window_area=c * d,
         window_breadth=d - 2 * wall, window_height=c / 2 - wall,
         gap_window_height=d, leg_perimeter=2 * (a + depth), bobbin_wall=wall,

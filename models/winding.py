@@ -93,26 +93,61 @@ def round_wire_skin_factor(diameter, delta):
     return np.where(xi < 1e-3, 1.0, ratio)
 
 
-def _dowell_terms(x):
-    """Skin and proximity functions of Dowell's solution, stable for all x >= 0.
+def dowell_terms_exact(x):
+    """Skin and proximity functions of Dowell's solution from the closed forms, all x >= 0.
 
     Returns ``(skin, prox)`` with ``skin = X (sinh 2X + sin 2X)/(cosh 2X - cos 2X)`` and
     ``prox = X (sinh X - sin X)/(cosh X + cos X)``.  Below X = 0.1 their series
     ``skin = 1 + 4 X^4/45``, ``prox = X^4/6 - 17 X^8/2520`` (truncation below 1e-12) replace the
     closed forms, which cancel there; above X = 20 the hyperbolic terms dominate and
-    ``skin -> X``, ``prox -> X`` to within 1e-8.
+    ``skin = prox = X`` to within 1e-8.
     """
     x = np.asarray(x, dtype=float)
     xs = np.clip(x, 0.1, 20.0)
-    e2 = np.exp(2 * xs)
     e1 = np.exp(xs)
+    e2 = e1 * e1
+    s1, c1 = np.sin(xs), np.cos(xs)
     sinh2, cosh2 = 0.5 * (e2 - 1 / e2), 0.5 * (e2 + 1 / e2)
     sinh1, cosh1 = 0.5 * (e1 - 1 / e1), 0.5 * (e1 + 1 / e1)
-    skin = xs * (sinh2 + np.sin(2 * xs)) / (cosh2 - np.cos(2 * xs))
-    prox = xs * (sinh1 - np.sin(xs)) / (cosh1 + np.cos(xs))
+    skin = xs * (sinh2 + 2 * s1 * c1) / (cosh2 - (1 - 2 * s1 * s1))
+    prox = xs * (sinh1 - s1) / (cosh1 + c1)
     x4 = x**4
     skin = np.where(x < 0.1, 1 + 4 * x4 / 45, np.where(x > 20.0, x, skin))
     prox = np.where(x < 0.1, x4 / 6 - 17 * x4 * x4 / 2520, np.where(x > 20.0, x, prox))
+    return skin, prox
+
+
+# Dowell's two functions tabulated once on a fine logarithmic grid of X; the evaluator calls them
+# hundreds of millions of times and linear interpolation in log X is accurate to a few 1e-6
+# (tests/test_winding.py checks it against the closed form).
+_TABLE_LOG10_X = np.linspace(-2.0, 2.0, 8001)
+_TABLE_SKIN, _TABLE_PROX = dowell_terms_exact(10.0**_TABLE_LOG10_X)
+
+
+def _uniform_interp(u, table):
+    """Linear interpolation in ``table`` at fractional index ``u`` (clipped to the table).
+
+    np.interp searches the grid for every point; on a uniform grid the index is arithmetic,
+    which is several times faster on the evaluator's hot path.
+    """
+    u = np.clip(u, 0.0, len(table) - 1.000001)
+    i = u.astype(np.intp)
+    lo = table[i]
+    return lo + (u - i) * (table[i + 1] - lo)
+
+
+def dowell_terms(x):
+    """Skin and proximity functions of Dowell's solution (tabulated closed form); see dowell_terms_exact."""
+    x = np.asarray(x, dtype=float)
+    step = _TABLE_LOG10_X[1] - _TABLE_LOG10_X[0]
+    u = (np.log10(np.maximum(x, 1e-300)) - _TABLE_LOG10_X[0]) / step
+    skin = _uniform_interp(u, _TABLE_SKIN)
+    prox = _uniform_interp(u, _TABLE_PROX)
+    small = x < 0.01           # below the table: the leading series terms are exact to 1e-16
+    large = x > 100.0          # above the table: both functions equal X
+    x4 = x**4
+    skin = np.where(small, 1 + 4 * x4 / 45, np.where(large, x, skin))
+    prox = np.where(small, x4 / 6, np.where(large, x, prox))
     return skin, prox
 
 
@@ -134,7 +169,7 @@ def dowell_factor(x, layers):
     ----------
     P. L. Dowell, Proc. IEE 113(8), 1966.
     """
-    skin, prox = _dowell_terms(x)
+    skin, prox = dowell_terms(x)
     m = np.asarray(layers, dtype=float)
     return skin + (2.0 * (m**2 - 1.0) / 3.0) * prox
 
@@ -153,6 +188,12 @@ def round_wire_dowell_x(diameter, delta, porosity):
     P. L. Dowell, Proc. IEE 113(8), 1966 (square-to-round equivalence with porosity).
     """
     return (np.pi / 4) ** 0.75 * np.asarray(diameter) / np.asarray(delta) * np.sqrt(np.asarray(porosity))
+
+
+# The exact round-wire skin factor tabulated over d/delta = 0.01..100 for the litz hot path
+# (scipy's Kelvin functions cost about a microsecond per call); interpolation error below 1e-6.
+_SKIN_LOG10_RATIO = np.linspace(-2.0, 2.0, 8001)
+_SKIN_TABLE = round_wire_skin_factor(10.0**_SKIN_LOG10_RATIO, 1.0)
 
 
 def litz_factor(strand_diameter, delta, strand_layers, porosity):
@@ -178,9 +219,13 @@ def litz_factor(strand_diameter, delta, strand_layers, porosity):
     P. L. Dowell, Proc. IEE 113(8), 1966.
     """
     x = round_wire_dowell_x(strand_diameter, delta, porosity)
-    _, prox = _dowell_terms(x)
+    _, prox = dowell_terms(x)
     m = np.asarray(strand_layers, dtype=float)
-    return round_wire_skin_factor(strand_diameter, delta) + (2.0 * (m**2 - 1.0) / 3.0) * prox
+    ratio = np.asarray(strand_diameter, dtype=float) / np.asarray(delta, dtype=float)
+    skin = _uniform_interp((np.log10(np.maximum(ratio, 1e-300)) - _SKIN_LOG10_RATIO[0]) /
+                           (_SKIN_LOG10_RATIO[1] - _SKIN_LOG10_RATIO[0]), _SKIN_TABLE)
+    skin = np.where(ratio > 100.0, round_wire_skin_factor(np.maximum(ratio, 100.0), 1.0), skin)
+    return skin + (2.0 * (m**2 - 1.0) / 3.0) * prox
 
 
 def triangle_harmonic_weights(duty, harmonics):
@@ -212,3 +257,69 @@ def triangle_harmonic_weights(duty, harmonics):
         raise ValueError("duty must lie strictly between 0 and 1")
     amp = np.abs(np.sin(n * np.pi * d)) / (np.pi**2 * n**2 * d * (1 - d))
     return amp**2 / 2
+
+
+def bobbin_layout(turns, parallel, wire_outer, breadth, height, legs=1):
+    """Layered winding on a bobbin (or on each leg of a two-coil core), square stacking.
+
+    Parameters
+    ----------
+    turns : array [-]        total turns (split evenly over ``legs`` coils in series)
+    parallel : array [-]     wires wound in parallel, side by side in a layer
+    wire_outer : array [m]   outer diameter of one wire (over enamel or serving)
+    breadth : array [m]      room along the leg for one layer
+    height : array [m]       radial room for the build
+    legs : array [-]         coils (1, or 2 on cut cores)
+
+    Returns
+    -------
+    turns_per_layer, layers, build [m], fit (build / height, > 1 does not fit)
+
+    Notes
+    -----
+    ``turns_per_layer = floor(floor(b / d_o) / n_par)``, ``layers = ceil(N_coil / turns_per_layer)``,
+    ``build = layers d_o``: orthocyclic nesting would save up to 13 % of the build; the square
+    count is the conservative choice for a first prototype (common practice, no source).
+    """
+    per_coil = np.ceil(np.asarray(turns, dtype=float) / legs)
+    positions = np.floor(np.asarray(breadth) / np.asarray(wire_outer))
+    tpl = np.floor(positions / np.asarray(parallel))
+    ok = tpl >= 1
+    layers = np.where(ok, np.ceil(per_coil / np.maximum(tpl, 1)), np.inf)
+    build = layers * wire_outer
+    return tpl, layers, build, np.where(ok, build / np.asarray(height), np.inf)
+
+
+def ring_layout(turns, parallel, wire_outer, hole_diameter, wall, max_layers=40):
+    """Layered winding on a ring core: each layer holds fewer turns as the hole closes.
+
+    Parameters
+    ----------
+    turns, parallel : array [-]
+    wire_outer : array [m]
+    hole_diameter : array [m]  inner diameter of the ring
+    wall : array [m]           coating and tape on the inner face
+    max_layers : int           layers examined (the hole closes long before)
+
+    Returns
+    -------
+    turns_per_layer (first layer), layers, build [m], fit (build / usable radius; > 1 does not fit)
+
+    Notes
+    -----
+    Layer k (from 0) lies at radius ``r_k = id/2 - wall - (k + 1/2) d_o`` on the inside of the ring
+    and holds ``floor(floor(2 pi r_k / d_o) / n_par)`` turns.
+    """
+    n = np.asarray(turns, dtype=float)[..., None]
+    d = np.asarray(wire_outer, dtype=float)[..., None]
+    k = np.arange(max_layers)
+    radius = np.asarray(hole_diameter)[..., None] / 2 - np.asarray(wall)[..., None] - (k + 0.5) * d
+    per_layer = np.where(radius > 0, np.floor(np.floor(2 * np.pi * np.maximum(radius, 0) / d)
+                                              / np.asarray(parallel, dtype=float)[..., None]), 0.0)
+    cum = np.cumsum(per_layer, axis=-1)
+    enough = cum >= n
+    fits = enough[..., -1]
+    layers = np.where(fits, np.argmax(enough, axis=-1) + 1.0, np.inf)
+    build = layers * d[..., 0]
+    usable = np.asarray(hole_diameter) / 2 - np.asarray(wall)
+    return per_layer[..., 0], layers, build, np.where(fits, build / usable, np.inf)

@@ -1,0 +1,138 @@
+"""Design rows: one candidate inductor per row, read from CSV or TOML and resolved against the catalog.
+
+Columns (part of the interface): ``material``, ``shape``, ``stack``, ``turns``, ``gap_mm``, ``wire``,
+``parallel``, ``f_sw_khz``.  ``gap_mm`` is the total gap in the magnetic path; it must be 0 for
+distributed-gap (powder) materials.
+"""
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from catalog import Catalog
+
+from .errors import InputError
+
+DESIGN_COLUMNS = ("material", "shape", "stack", "turns", "gap_mm", "wire", "parallel", "f_sw_khz")
+
+
+@dataclass(frozen=True)
+class Designs:
+    """A population of designs as arrays of catalog indices and SI values."""
+
+    material: np.ndarray   # catalog material index
+    shape: np.ndarray      # catalog shape index
+    stack: np.ndarray      # cores stacked, 1-3
+    turns: np.ndarray      # [-]
+    gap: np.ndarray        # total gap [m]
+    wire: np.ndarray       # catalog wire index
+    parallel: np.ndarray   # wires in hand [-]
+    f_sw: np.ndarray       # switching frequency [Hz]
+
+    def __len__(self) -> int:
+        return len(self.turns)
+
+    def take(self, index) -> "Designs":
+        return Designs(*(getattr(self, f)[index] for f in self.__dataclass_fields__))
+
+    def to_frame(self, catalog: Catalog) -> pd.DataFrame:
+        """The rows with catalog ids and engineering units (the interface columns)."""
+        return pd.DataFrame({
+            "material": np.array(list(catalog.materials))[self.material],
+            "shape": np.array(list(catalog.shapes))[self.shape],
+            "stack": self.stack.astype(int), "turns": self.turns.astype(int),
+            "gap_mm": np.round(self.gap * 1e3, 6), "wire": np.array(list(catalog.wires))[self.wire],
+            "parallel": self.parallel.astype(int), "f_sw_khz": np.round(self.f_sw / 1e3, 6),
+        })
+
+
+def read_design_table(path) -> pd.DataFrame:
+    """Read design rows from a CSV (many rows) or a TOML file (one design, keys = columns)."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"{path}: no such designs file (expected a .csv or .toml file)")
+    if path.suffix.lower() == ".toml":
+        try:
+            data = tomllib.loads(path.read_text(encoding="utf-8"))
+        except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+            raise InputError(f"{path}: not valid TOML ({exc})") from None
+        data = data.get("design", data)
+        if not isinstance(data, dict):
+            raise InputError(f"{path}: expected one design as keys {', '.join(DESIGN_COLUMNS)}")
+        return pd.DataFrame([data])
+    if path.suffix.lower() == ".csv":
+        try:
+            return pd.read_csv(path, dtype=str, skipinitialspace=True)
+        except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError) as exc:
+            raise InputError(f"{path}: not a readable CSV ({str(exc).splitlines()[0]})") from None
+    raise InputError(f"{path}: designs file must end in .csv or .toml")
+
+
+def _numbers(df, col, source, integer, lo, hi):
+    values = pd.to_numeric(df[col], errors="coerce").to_numpy(dtype=float)
+    bad = ~np.isfinite(values) | (values < lo) | (values > hi)
+    if integer:
+        bad |= values != np.round(values)
+    if bad.any():
+        i = int(np.argmax(bad))
+        kind = "a whole number" if integer else "a number"
+        raise InputError(f"{source} row {i + 1}: column '{col}' = {df[col].iloc[i]!r}: expected {kind} "
+                         f"from {lo:g} to {hi:g}")
+    return values
+
+
+def _ids(df, col, table: dict, source, kind):
+    names = list(table)
+    lut = {n: i for i, n in enumerate(names)}
+    values = df[col].astype(str).str.strip()
+    idx = values.map(lut)
+    if idx.isna().any():
+        i = int(np.argmax(idx.isna().to_numpy()))
+        raise InputError(f"{source} row {i + 1}: column '{col}' = {values.iloc[i]!r}: unknown {kind}; "
+                         f"valid: {', '.join(names)}")
+    return idx.to_numpy(dtype=int)
+
+
+def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs") -> Designs:
+    """Check every row against the catalog and the physics; return arrays.
+
+    Raises InputError naming the row, column, value and the valid choices for the first bad cell.
+    """
+    missing = [c for c in DESIGN_COLUMNS if c not in df.columns]
+    if missing:
+        raise InputError(f"{source}: missing column '{missing[0]}'; design columns are {', '.join(DESIGN_COLUMNS)}")
+    if len(df) == 0:
+        raise InputError(f"{source}: no design rows")
+    mat = _ids(df, "material", catalog.materials, source, "material")
+    shp = _ids(df, "shape", catalog.shapes, source, "shape")
+    wire = _ids(df, "wire", catalog.wires, source, "wire")
+    stack = _numbers(df, "stack", source, True, 1, 3)
+    turns = _numbers(df, "turns", source, True, 1, 5000)
+    gap = _numbers(df, "gap_mm", source, False, 0, 50) * 1e-3
+    par = _numbers(df, "parallel", source, True, 1, 100)
+    f_sw = _numbers(df, "f_sw_khz", source, False, 1, 10e3) * 1e3
+
+    ok = catalog.compatible(mat, shp)
+    if not ok.all():
+        i = int(np.argmin(ok))
+        m = catalog.materials[df["material"].iloc[i].strip()]
+        fam = catalog.shape_arrays["family"][shp[i]]
+        valid = [s for s, e in catalog.shapes.items() if e.family in m.families]
+        raise InputError(f"{source} row {i + 1}: shape {df['shape'].iloc[i].strip()!r} (family {fam}) is not made "
+                         f"in material {m.id!r}; valid shapes: {', '.join(valid)}")
+    too_tall = stack > catalog.shape_arrays["max_stack"][shp]
+    if too_tall.any():
+        i = int(np.argmax(too_tall))
+        raise InputError(f"{source} row {i + 1}: column 'stack' = {int(stack[i])}: shape "
+                         f"{df['shape'].iloc[i].strip()!r} stacks at most {catalog.shape_arrays['max_stack'][shp[i]]}")
+    dist = catalog.material_arrays.distributed_gap[mat]
+    gapped_powder = dist & (gap > 0)
+    if gapped_powder.any():
+        i = int(np.argmax(gapped_powder))
+        raise InputError(f"{source} row {i + 1}: column 'gap_mm' = {df['gap_mm'].iloc[i]}: material "
+                         f"{df['material'].iloc[i].strip()!r} has a distributed gap; expected 0")
+    return Designs(mat, shp, stack.astype(int), turns, gap, wire, par, f_sw)
