@@ -114,7 +114,8 @@ def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs") -> Des
     turns = _numbers(df, "turns", source, True, 1, 5000)
     gap = _numbers(df, "gap_mm", source, False, 0, 50) * 1e-3
     par = _numbers(df, "parallel", source, True, 1, 100)
-    f_sw = _numbers(df, "f_sw_khz", source, False, 1, 10e3) * 1e3
+    # rounded to mHz so that a kHz value written to CSV reads back to the identical frequency
+    f_sw = np.round(_numbers(df, "f_sw_khz", source, False, 1, 10e3) * 1e3, 3)
 
     ok = catalog.compatible(mat, shp)
     if not ok.all():

@@ -172,13 +172,22 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     ra, rb, rc = M.rolloff_a[m], M.rolloff_b[m], M.rolloff_c[m]
     n_over_le = N / geo.le
 
+    pw = np.nonzero(dist)[0]  # powder designs: the bias-dependent terms are computed for these only
+
     def flux_density(current):
         """Core flux density at inductor current ``current`` [T] (per design)."""
-        b_lin = l0 * current / (N * ae)
-        if not dist.any():
-            return b_lin
-        b_pow = magnetics.powder_flux_density(n_over_le * current, M.mu_initial[m], ra, rb, rc)
-        return np.where(dist, b_pow, b_lin)
+        b = l0 * current / (N * ae)
+        b[pw] = magnetics.powder_flux_density(n_over_le[pw] * current[pw], M.mu_initial[m][pw], ra[pw], rb[pw], rc[pw])
+        return b
+
+    def rolloff(current):
+        """Permeability fraction kept at ``current`` [A], shape (n,) or (n, S); 1 for gapped cores."""
+        out = np.ones(np.shape(current) if np.ndim(current) == 2 else (n,))
+        cur = current[pw] if np.ndim(current) else current
+        col = (slice(None), None) if out.ndim == 2 else (slice(None),)
+        out[pw] = magnetics.powder_permeability_fraction(n_over_le[pw][col] * cur, ra[pw][col], rb[pw][col],
+                                                         rc[pw][col])
+        return out
 
     band, in_band = core_loss.select_band(f, M.band_f_min[m], M.band_f_max[m])
     tf_ref = np.ones(n)  # sampled loss densities are at the material's reference temperature
@@ -194,11 +203,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     harm = np.empty((n, n_ops, len(ctx.harmonics)))
     samples = []
     for j, op in enumerate(ctx.ops):
-        if dist.any():
-            frac = magnetics.powder_permeability_fraction(n_over_le[:, None] * op.i_avg, ra[:, None], rb[:, None],
-                                                          rc[:, None])
-        else:
-            frac = np.ones((n, len(op.i_avg)))
+        frac = rolloff(np.broadcast_to(op.i_avg, (n, len(op.i_avg))))
         ripple = op.volt_seconds / ((l0 * f)[:, None] * frac)
         i_top = op.i_avg + 0.5 * ripple
         i_peak = i_top.max(axis=1)
@@ -207,9 +212,9 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         per["ripple_ratio"][:, j] = per["ripple_max"][:, j] / op.i_pk
         per["dcm_fraction"][:, j] = np.mean(0.5 * ripple > op.i_avg, axis=1)
         per["b_peak"][:, j] = flux_density(i_peak)
-        per["b_line"][:, j] = flux_density(op.i_pk)
+        per["b_line"][:, j] = flux_density(np.full(n, op.i_pk))
         per["db_max"][:, j] = op.volt_seconds.max() / (N * ae * f)
-        kept = magnetics.powder_permeability_fraction(n_over_le * i_peak, ra, rb, rc)
+        kept = rolloff(i_peak)
         per["kept_fraction"][:, j] = kept
         per["inductance_at_peak"][:, j] = l0 * kept
         line_loop = core_loss.rectified_sine_loop(per["b_line"][:, j], spec.converter.line_hz, M.band_k[m, lb],
@@ -229,7 +234,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
                 "angle_deg": np.broadcast_to(np.degrees(op.theta), shape), "v_in_v": np.broadcast_to(op.v_in, shape),
                 "duty": np.broadcast_to(op.duty, shape), "i_avg_a": np.broadcast_to(op.i_avg, shape),
                 "ripple_pp_a": ripple, "i_top_a": i_top, "inductance_uh": (l0[:, None] * frac) * 1e6,
-                "b_avg_t": np.column_stack([flux_density(op.i_avg[k] * np.ones(n)) for k in range(shape[1])]),
+                "b_avg_t": np.column_stack([flux_density(np.full(n, op.i_avg[k])) for k in range(shape[1])]),
                 "b_top_t": np.column_stack([flux_density(i_top[:, k]) for k in range(shape[1])]),
                 "b_ripple_pp_t": db, "core_loss_density_w_cm3_at_ref": pv * 1e-6})
 
@@ -245,35 +250,42 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     for k, t in enumerate(t_nodes):
         delta = winding.skin_depth(f[:, None] * ctx.harmonics, winding.copper_resistivity(
             t, cat.copper.resistivity_ohm_m_20c, cat.copper.tempco_per_k))
-        fr = np.where(litz[:, None],
-                      winding.litz_factor(d_s[:, None], delta, strand_layers[:, None], eta[:, None]),
-                      winding.dowell_factor(winding.round_wire_dowell_x(d_s[:, None], delta, eta[:, None]),
-                                            layers[:, None]))
+        fr = np.empty_like(delta)
+        fr[litz] = winding.litz_factor(d_s[litz, None], delta[litz], strand_layers[litz, None], eta[litz, None])
+        solid = ~litz
+        fr[solid] = winding.dowell_factor(winding.round_wire_dowell_x(d_s[solid, None], delta[solid], eta[solid, None]),
+                                          layers[solid, None])
         ac_nodes[:, :, k] = np.einsum("nh,noh->no", fr, harm)
 
     # ---- heat balance: Newton on dissipation(T) = loss(T), per design and operating point ------
-    dissipate = _dissipation(spec, surface[:, None], size.max(axis=1)[:, None])
-    rise_int = spec.thermal.internal_rise_k
-    tf = lambda t: core_loss.temperature_factor(t, M.loss_temp_ref[m, None], M.loss_temp_c1[m, None],  # noqa: E731
-                                                M.loss_temp_c2[m, None])
-    alpha_cu = cat.copper.tempco_per_k
+    area, height = np.broadcast_to(surface[:, None], (n, n_ops)), np.broadcast_to(size.max(axis=1)[:, None], (n, n_ops))
+    tf = lambda t, i: core_loss.temperature_factor(t, M.loss_temp_ref[m][i], M.loss_temp_c1[m][i],  # noqa: E731
+                                                   M.loss_temp_c2[m][i])
+    rise_int, alpha_cu = spec.thermal.internal_rise_k, cat.copper.tempco_per_k
+    core_ref, i2, r20 = per["core_ref"], per["i_line_rms"] ** 2, np.broadcast_to(r_dc20[:, None], (n, n_ops))
     dt = np.full((n, n_ops), 30.0)
     converged = np.zeros((n, n_ops), dtype=bool)
-    for _ in range(60):
-        t_hot = lim.ambient_c + dt + rise_int
-        r_dc = r_dc20[:, None] * (1 + alpha_cu * (t_hot - 20.0))
-        loss = per["core_ref"] * tf(t_hot) + r_dc * (per["i_line_rms"] ** 2 + _lagrange3(t_hot, t_nodes, ac_nodes))
-        p, dp = dissipate(dt)
-        new = np.clip(dt - (p - loss) / np.maximum(dp, 1e-9), 0.0, 2000.0)
-        converged = np.abs(new - dt) < 0.01
-        dt = new
-        if converged.all():
+    active = np.nonzero(np.ones((n, n_ops), dtype=bool))
+    for _ in range(60):  # Newton on dissipation(dT) = loss(dT), only where not yet converged
+        rows = active[0]
+        x = dt[active]
+        t_hot = lim.ambient_c + x + rise_int
+        loss = (core_ref[active] * tf(t_hot, rows)
+                + r20[active] * (1 + alpha_cu * (t_hot - 20.0)) * (i2[active] + _lagrange3(t_hot, t_nodes, ac_nodes[active])))
+        p, dp = _dissipation(spec, area[active], height[active])(x)
+        new = np.clip(x - (p - loss) / np.maximum(dp, 1e-9), 0.0, 2000.0)
+        done = np.abs(new - x) < 0.01
+        dt[active] = new
+        converged[active[0][done], active[1][done]] = True
+        active = (active[0][~done], active[1][~done])
+        if active[0].size == 0:
             break
     runaway = ~converged | (dt >= 1000.0)
     t_surface = lim.ambient_c + dt
     t_hot = t_surface + rise_int
     r_dc = r_dc20[:, None] * (1 + alpha_cu * (t_hot - 20.0))
-    core = per["core_ref"] * tf(t_hot)
+    core = per["core_ref"] * core_loss.temperature_factor(t_hot, M.loss_temp_ref[m, None], M.loss_temp_c1[m, None],
+                                                          M.loss_temp_c2[m, None])
     wdc = r_dc * per["i_line_rms"] ** 2
     wac = r_dc * _lagrange3(t_hot, t_nodes, ac_nodes)
     sw = per["switching"]

@@ -80,17 +80,20 @@ def round_wire_skin_factor(diameter, delta):
     With ``xi = d / (sqrt(2) delta)``:
     ``Rac/Rdc = (xi/2) (ber xi bei' xi - bei xi ber' xi) / (ber'^2 xi + bei'^2 xi)``,
     the exact Bessel-function solution written with Kelvin functions.  For ``xi`` below 1e-3 the
-    expression cancels badly in floating point and the ratio is 1 to better than 1e-12.
+    expression cancels badly in floating point and the ratio is 1 to better than 1e-12; for
+    ``d/delta`` above 100 the Kelvin functions overflow and the high-frequency asymptote
+    ``d/(4 delta) + 1/4`` (within 1e-4 there) is used.
 
     References
     ----------
     J. A. Ferreira, IEEE Trans. Power Electronics 9(1), 1994.
     """
     xi = np.asarray(diameter, dtype=float) / (np.sqrt(2.0) * np.asarray(delta, dtype=float))
-    xi_safe = np.maximum(xi, 1e-3)
+    xi_safe = np.clip(xi, 1e-3, 100.0 / np.sqrt(2.0))
     ber, bei, berp, beip = special.ber(xi_safe), special.bei(xi_safe), special.berp(xi_safe), special.beip(xi_safe)
     ratio = (xi_safe / 2) * (ber * beip - bei * berp) / (berp**2 + beip**2)
-    return np.where(xi < 1e-3, 1.0, ratio)
+    asymptote = np.sqrt(2.0) * xi / 4 + 0.25
+    return np.where(xi < 1e-3, 1.0, np.where(xi > 100.0 / np.sqrt(2.0), asymptote, ratio))
 
 
 def dowell_terms_exact(x):
@@ -224,7 +227,7 @@ def litz_factor(strand_diameter, delta, strand_layers, porosity):
     ratio = np.asarray(strand_diameter, dtype=float) / np.asarray(delta, dtype=float)
     skin = _uniform_interp((np.log10(np.maximum(ratio, 1e-300)) - _SKIN_LOG10_RATIO[0]) /
                            (_SKIN_LOG10_RATIO[1] - _SKIN_LOG10_RATIO[0]), _SKIN_TABLE)
-    skin = np.where(ratio > 100.0, round_wire_skin_factor(np.maximum(ratio, 100.0), 1.0), skin)
+    skin = np.where(ratio > 100.0, ratio / 4 + 0.25, skin)  # beyond the table: the asymptote (1e-4)
     return skin + (2.0 * (m**2 - 1.0) / 3.0) * prox
 
 

@@ -1,0 +1,111 @@
+"""The design space of a spec: what the search may choose, encoded as a vector of numbers.
+
+Encoding (one row of X per design, all real numbers, rounded by ``decode``):
+
+====  ===================  ===================================================================
+ x    meaning              decoding
+====  ===================  ===================================================================
+ 0    core choice          index into the list of allowed (material, shape) pairs, ordered by
+                           material then core volume, so neighbouring indices are similar cores
+ 1    stack                1..stack_max, clipped to the shape family's own maximum
+ 2    turns                turns_min..turns_max
+ 3    gap                  gap_mm_min..gap_mm_max [mm]; forced to 0 for distributed-gap materials
+ 4    wire                 index into the allowed wires, ordered by copper area
+ 5    parallel             1..parallel_max
+ 6    frequency            log10 of f_sw in Hz between the spec's limits (kept continuous,
+                           rounded to 0.1 kHz)
+====  ===================  ===================================================================
+
+Incompatible material-shape combinations cannot be encoded at all (the pair list holds only
+compatible ones); a stack beyond the family's maximum and a gap on a powder core are repaired
+in ``decode``.  So every decoded row is a valid design for the evaluator.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from catalog import Catalog
+from fluxfront.designs import Designs
+from fluxfront.errors import InputError
+from fluxfront.spec import Spec
+
+N_VAR = 7
+
+
+def _choose(requested: list[str], table: dict, kind: str) -> list[str]:
+    if requested == ["all"]:
+        return list(table)
+    unknown = [r for r in requested if r not in table]
+    if unknown:
+        raise InputError(f"search.{kind}s: unknown {kind} {unknown[0]!r}; valid: all, {', '.join(table)}")
+    return list(dict.fromkeys(requested))
+
+
+@dataclass(frozen=True)
+class DesignSpace:
+    pair_material: np.ndarray  # catalog material index of each (material, shape) pair
+    pair_shape: np.ndarray     # catalog shape index
+    pair_max_stack: np.ndarray
+    wires: np.ndarray          # catalog wire indices, by copper area
+    lower: np.ndarray          # (N_VAR,) bounds of the encoded variables
+    upper: np.ndarray
+    distributed: np.ndarray    # per pair: material has a distributed gap
+
+    @classmethod
+    def from_spec(cls, spec: Spec, catalog: Catalog) -> "DesignSpace":
+        s = spec.search
+        mats = _choose(s.materials, catalog.materials, "material")
+        shapes = _choose(s.shapes, catalog.shapes, "shape")
+        wires = _choose(s.wires, catalog.wires, "wire")
+        vol = catalog.shape_table().set_index("id")["ve_cm3"]
+        pairs = [(catalog.material_index(mname), catalog.shape_index(sname))
+                 for mname in mats
+                 for sname in sorted(shapes, key=lambda x: vol[x])
+                 if catalog.shapes[sname].family in catalog.materials[mname].families]
+        if not pairs:
+            raise InputError("search: no allowed shape is made in any allowed material; "
+                             "widen search.materials or search.shapes")
+        pm, ps = (np.array(v) for v in zip(*pairs))
+        w_idx = np.array(sorted((catalog.wire_index(w) for w in wires),
+                                key=lambda i: catalog.wire_arrays["copper_area"][i]))
+        lo = np.array([0, 1, s.turns_min, s.gap_mm_min, 0, 1, np.log10(s.f_sw_khz_min * 1e3)], dtype=float)
+        hi = np.array([len(pairs) - 1, s.stack_max, s.turns_max, s.gap_mm_max, len(w_idx) - 1, s.parallel_max,
+                       np.log10(s.f_sw_khz_max * 1e3)], dtype=float)
+        # integer variables span [k - 0.5, k + 0.5) so that every value is equally likely after rounding
+        for i in (0, 1, 2, 4, 5):
+            lo[i] -= 0.499999
+            hi[i] += 0.499999
+        return cls(pm, ps, np.minimum(catalog.shape_arrays["max_stack"][ps], s.stack_max), w_idx, lo, hi,
+                   catalog.material_arrays.distributed_gap[pm])
+
+    @property
+    def size(self) -> float:
+        """Number of distinct designs (gap and frequency counted at 0.01 mm and 0.1 kHz steps)."""
+        span = np.round(self.upper - self.lower)
+        gaps = max(np.round((self.upper[3] - self.lower[3]) / 0.01), 1)
+        freq = max(np.round((10 ** self.upper[6] - 10 ** self.lower[6]) / 100), 1)
+        return float(span[0] * span[1] * span[2] * gaps * span[4] * span[5] * freq)
+
+    def decode(self, x: np.ndarray) -> Designs:
+        """Rows of encoded variables -> valid Designs (rounding and repair, see module doc)."""
+        x = np.clip(np.atleast_2d(np.asarray(x, dtype=float)), self.lower, self.upper)
+        pair = np.rint(x[:, 0]).astype(int)
+        stack = np.minimum(np.rint(x[:, 1]).astype(int), self.pair_max_stack[pair])
+        gap = np.where(self.distributed[pair], 0.0, np.round(x[:, 3], 2)) * 1e-3
+        f_sw = np.round(10 ** x[:, 6] / 100.0) * 100.0
+        return Designs(self.pair_material[pair], self.pair_shape[pair], stack, np.rint(x[:, 2]), gap,
+                       self.wires[np.rint(x[:, 4]).astype(int)], np.rint(x[:, 5]), f_sw)
+
+    def canonical(self, x: np.ndarray) -> np.ndarray:
+        """The encoded point of the design that ``x`` decodes to (repairs applied)."""
+        d = self.decode(x)
+        pair = np.rint(np.clip(x[:, 0], self.lower[0], self.upper[0])).astype(int)
+        wire_pos = np.searchsorted(self.wires[np.argsort(self.wires)], d.wire)
+        wire_pos = np.argsort(self.wires)[wire_pos]
+        return np.column_stack([pair, d.stack, d.turns, d.gap * 1e3, wire_pos, d.parallel, np.log10(d.f_sw)])
+
+    def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
+        """``n`` encoded points drawn uniformly within the bounds."""
+        return rng.uniform(self.lower, self.upper, size=(n, N_VAR))
