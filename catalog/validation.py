@@ -22,7 +22,9 @@ def validate_entry(model: type[BaseModel], raw, prefix: str, error: type[Excepti
 
 def one_line(exc: ValidationError, model: type[BaseModel], prefix: str) -> str:
     """The first error of ``exc`` as one readable line."""
-    err = exc.errors(include_url=False)[0]
+    errors = exc.errors(include_url=False)
+    # a misspelt key shows up twice (unknown field, and the real one missing): name the typo first
+    err = next((e for e in errors if e["type"] == "extra_forbidden"), errors[0])
     where = ".".join(str(p) for p in err["loc"])
     expected = err["msg"].removeprefix("Value error, ")
     if err["type"] == "missing":

@@ -1,0 +1,87 @@
+"""The evaluator chained over populations: hand recomputation, batch equals single, properties."""
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from fluxfront.designs import resolve_designs
+from fluxfront.evaluator import evaluate
+from models import magnetics, waveforms
+from optimizer.space import DesignSpace
+
+FERRITE = dict(material="mnzn_ferrite_100k", shape="ETD49", stack=1, turns=40, gap_mm=3.0, wire="litz175x38awg",
+               parallel=1, f_sw_khz=65)
+POWDER = dict(material="fesial_powder_60", shape="T57/26/15", stack=2, turns=45, gap_mm=0, wire="awg16-g2",
+              parallel=1, f_sw_khz=65)
+
+
+def _eval(ctx, catalog, rows, **kw):
+    return evaluate(ctx, resolve_designs(pd.DataFrame(rows), catalog), **kw)
+
+
+def test_inductance_and_peak_flux_recomputed_by_hand(demo_context, catalog):
+    ev = _eval(demo_context, catalog, [FERRITE])
+    geo = catalog.core_geometry(np.array([catalog.shape_index("ETD49")]), np.array([1]))
+    mat = catalog.materials["mnzn_ferrite_100k"]
+    f = magnetics.fringing_factor_log(3e-3, geo.gap_area[0], geo.gap_window_height[0])
+    l_hand = f * 40**2 / (geo.le[0] / (magnetics.MU0 * mat.mu_initial * geo.ae[0]) + 3e-3 / (magnetics.MU0 * geo.gap_area[0]))
+    assert ev.figures["inductance_uh"][0] == pytest.approx(l_hand * 1e6, rel=1e-12)
+    b_hand = l_hand * ev.figures["i_peak_a"][0] / (40 * geo.ae[0])
+    assert ev.figures["b_peak_t"][0] == pytest.approx(b_hand, rel=1e-12)
+    # low line, full load: the ripple at the line peak from the textbook formula (methods.md section 2)
+    spec = demo_context.spec
+    i_pk = np.sqrt(2) * spec.converter.power_w / (spec.converter.efficiency * 90)
+    assert demo_context.ops[0].i_pk == pytest.approx(i_pk)
+    assert ev.figures["ripple_pp_max_a"][0] >= waveforms.largest_ripple_pp(np.sqrt(2) * 90, 400, l_hand, 65e3) * 0.99
+
+
+def test_powder_core_loses_inductance_under_bias(demo_context, catalog):
+    ev = _eval(demo_context, catalog, [POWDER])
+    assert ev.figures["inductance_at_peak_uh"][0] < 0.5 * ev.figures["inductance_uh"][0]
+    assert ev.constraints[0, 2] > 0      # the 50 % kept-inductance limit of the demo spec is violated
+
+
+def test_batch_equals_one_at_a_time_and_chunk_independent(demo_context, catalog, demo_spec):
+    space = DesignSpace.from_spec(demo_spec, catalog)
+    d = space.decode(space.sample(np.random.default_rng(7), 300))
+    batch = evaluate(demo_context, d, chunk=128)
+    whole = evaluate(demo_context, d, chunk=1000)
+    np.testing.assert_array_equal(batch.objectives, whole.objectives)
+    for i in (0, 17, 299):
+        one = evaluate(demo_context, d.take(slice(i, i + 1)))
+        np.testing.assert_allclose(one.objectives[0], batch.objectives[i], rtol=1e-12)
+        np.testing.assert_allclose(one.constraints[0], batch.constraints[i], rtol=1e-12, atol=1e-12)
+
+
+def test_more_turns_less_core_loss(demo_context, catalog):
+    # same core and frequency: dB = v d / (N Ae f), so fewer turns means a larger swing and more core loss
+    rows = [dict(FERRITE, turns=n) for n in (20, 30, 45)]
+    core = _eval(demo_context, catalog, rows).per_op["core_loss_w"][:, 0]
+    assert core[0] > core[1] > core[2]
+
+
+def test_higher_frequency_costs_switching_loss(demo_context, catalog):
+    ev = _eval(demo_context, catalog, [dict(FERRITE, f_sw_khz=50), dict(FERRITE, f_sw_khz=150)])
+    assert ev.figures["switching_loss_w"][1] == pytest.approx(3 * ev.figures["switching_loss_w"][0])
+
+
+def test_json_samples_are_kept_for_one_design(demo_context, catalog):
+    ev = _eval(demo_context, catalog, [FERRITE], keep_samples=True)
+    s = ev.samples[0]
+    assert s["ripple_pp_a"].shape == (1, demo_context.spec.model.samples_per_half_cycle // 2)
+    np.testing.assert_allclose(s["ripple_pp_a"][0], s["v_in_v"][0] * s["duty"][0] / (ev.figures["inductance_uh"][0] * 1e-6 * 65e3))
+
+
+@settings(max_examples=40, deadline=None)
+@given(seed=st.integers(0, 2**31 - 1))
+def test_random_valid_designs_give_finite_numbers(seed, demo_context, catalog, demo_spec):
+    space = DesignSpace.from_spec(demo_spec, catalog)
+    d = space.decode(space.sample(np.random.default_rng(seed), 64))
+    ev = evaluate(demo_context, d)
+    assert np.all(np.isfinite(ev.objectives))
+    assert np.all(np.isfinite(ev.constraints))
+    for k, v in ev.figures.items():
+        assert np.all(np.isfinite(np.asarray(v, dtype=float))), k
+    # a design reported feasible has no thermal runaway and meets every limit
+    assert not np.any(ev.feasible & ev.figures["thermal_runaway"])
