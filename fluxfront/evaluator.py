@@ -112,6 +112,19 @@ class Evaluation:
         return np.all(self.constraints <= 0, axis=1)
 
 
+def _rowdot(a, b):
+    """``a @ b`` for a (n, S) and b (S, H), summed in a fixed order (batch-independent bits)."""
+    out = np.zeros((a.shape[0], b.shape[1]))
+    for k in range(a.shape[1]):          # a loop over line-cycle samples, not over designs
+        out += a[:, k, None] * b[k]
+    return out
+
+
+def _weighted(per_op, weights):
+    """Weighted sum over operating points, per design, in a fixed order."""
+    return (per_op * weights).sum(axis=1)
+
+
 def _lagrange3(x, nodes, values):
     """Quadratic through three (node, value) pairs, evaluated at x; values (..., 3) broadcast with x."""
     x0, x1, x2 = nodes
@@ -221,8 +234,9 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
                                                   M.band_alpha[m, lb], M.band_beta[m, lb]) * ve
         per["core_ref"][:, j] = hf_scale * op.core_shape[m, band] + line_loop
         per["i_line_rms"][:, j] = op.i_rms
-        # ripple harmonics over the line cycle: (1/(L0 f))^2 * frac^-2 @ (v d)^2 w_n(D)
-        harm[:, j, :] = (frac**-2 @ op.harmonic_matrix) / ((l0 * f) ** 2)[:, None]
+        # ripple harmonics over the line cycle: (1/(L0 f))^2 * frac^-2 @ (v d)^2 w_n(D), summed
+        # elementwise rather than by BLAS so that a design's result does not depend on its batch
+        harm[:, j, :] = _rowdot(frac**-2, op.harmonic_matrix) / ((l0 * f) ** 2)[:, None]
         per["ripple_ms"][:, j] = harm[:, j, :].sum(axis=1)
         per["switching"][:, j] = switching.switching_loss(op.switching_energy, f)
         if keep_samples:
@@ -255,7 +269,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         solid = ~litz
         fr[solid] = winding.dowell_factor(winding.round_wire_dowell_x(d_s[solid, None], delta[solid], eta[solid, None]),
                                           layers[solid, None])
-        ac_nodes[:, :, k] = np.einsum("nh,noh->no", fr, harm)
+        ac_nodes[:, :, k] = (fr[:, None, :] * harm).sum(axis=-1)
 
     # ---- heat balance: Newton on dissipation(T) = loss(T), per design and operating point ------
     area, height = np.broadcast_to(surface[:, None], (n, n_ops)), np.broadcast_to(size.max(axis=1)[:, None], (n, n_ops))
@@ -317,7 +331,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     price = cost.inductor_cost(core_mass, M.price_per_kg[m], copper_mass, price_cu, N, par,
                                cat.costs.labour_per_turn, d.stack, cat.costs.part_cost_per_core,
                                cat.costs.assembly_cost)
-    weighted_total = total @ wts
+    weighted_total = _weighted(total, wts)
     objectives = np.column_stack([volume * 1e6, weighted_total, price])
     i_l_rms = np.sqrt(per["i_line_rms"] ** 2 + per["ripple_ms"])
     figures = {
@@ -331,10 +345,10 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         "b_sat_t": b_sat.min(axis=1),
         "saturation_ratio": sat_ratio.max(axis=1),
         "b_ripple_pp_max_t": per["db_max"].max(axis=1),
-        "core_loss_w": core @ wts,
-        "winding_dc_loss_w": wdc @ wts,
-        "winding_ac_loss_w": wac @ wts,
-        "switching_loss_w": sw @ wts,
+        "core_loss_w": _weighted(core, wts),
+        "winding_dc_loss_w": _weighted(wdc, wts),
+        "winding_ac_loss_w": _weighted(wac, wts),
+        "switching_loss_w": _weighted(sw, wts),
         "total_loss_w": weighted_total,
         "temperature_c": t_hot.max(axis=1),          # where thermal_runaway: the last iterate, not a state
         "surface_temperature_c": t_surface.max(axis=1),
