@@ -59,6 +59,98 @@ def cmd_evaluate(args) -> int:
     return 0
 
 
+def _default_run_dir(spec_path) -> Path:
+    from datetime import datetime
+
+    stamp = datetime.now().strftime("%Y%m%d-%H%M%S")
+    return Path("runs") / f"{Path(spec_path).stem}-{stamp}"
+
+
+def _positive(name, value, integer=True):
+    if value is not None and value <= 0:
+        raise InputError(f"--{name} = {value}: expected a positive {'whole number' if integer else 'number'}")
+
+
+def _settings(args):
+    from optimizer.run import Settings
+
+    _positive("population", args.population)
+    _positive("generations", args.generations)
+    _positive("hours", args.hours, integer=False)
+    _positive("stagnation", args.stagnation)
+    if args.jobs == 0 or args.jobs < -1:
+        raise InputError(f"--jobs = {args.jobs}: expected a positive number of processes, or -1 for all cores")
+    generations = args.generations if args.generations is not None or args.hours is not None else 300
+    return Settings(seed=args.seed, population=args.population, generations=generations, hours=args.hours,
+                    stagnation=args.stagnation, jobs=args.jobs, scheduler=args.scheduler, keep_all=args.keep_all)
+
+
+def _finish(outcome, quiet) -> int:
+    from .cli import EXIT_NO_FEASIBLE
+
+    print(outcome.summary)
+    print(f"stopped: {outcome.stop_reason}")
+    print(f"run folder: {outcome.folder}")
+    return 0 if outcome.front_size > 0 else EXIT_NO_FEASIBLE
+
+
+def cmd_run(args) -> int:
+    from optimizer.run import start
+
+    settings = _settings(args)
+    spec, _, catalog = load_problem(args.spec, args.catalog)
+    out = Path(args.out) if args.out else _default_run_dir(args.spec)
+    if out.exists():
+        raise InputError(f"--out {out}: already exists; a run never writes over another (resume it with "
+                         f"'fluxfront resume {out}')")
+    return _finish(start(spec, Path(args.spec), catalog, out, settings, quiet=args.quiet), args.quiet)
+
+
+def cmd_resume(args) -> int:
+    from optimizer.run import resume
+
+    run_dir = Path(args.run_dir)
+    if not (run_dir / "checkpoint.pkl").is_file() or not (run_dir / "run.json").is_file():
+        raise InputError(f"{run_dir}: not a run folder (expected run.json and checkpoint.pkl in it)")
+    _positive("more-generations", args.more_generations)
+    return _finish(resume(run_dir, args.catalog, quiet=args.quiet, extra_generations=args.more_generations), args.quiet)
+
+
+def cmd_demo(args) -> int:
+    from optimizer.run import Settings, start
+
+    from .spec import demo_spec_path
+
+    spec, _, catalog = load_problem(demo_spec_path(), [])
+    out = Path(args.out) if args.out else _default_run_dir("demo")
+    if out.exists():
+        raise InputError(f"--out {out}: already exists; choose another folder")
+    settings = Settings(seed=args.seed, population=200, generations=args.generations, jobs=args.jobs)
+    print(f"fluxfront demo: the built-in 1.5 kW universal-input PFC scenario, {settings.generations} generations "
+          f"of {settings.population} designs")
+    outcome = start(spec, demo_spec_path(), catalog, out, settings, quiet=args.quiet)
+    code = _finish(outcome, args.quiet)
+    after_demo = getattr(sys.modules[__name__], "after_demo", None)
+    if after_demo is not None and outcome.front_size > 0:
+        after_demo(outcome.folder)
+    return code
+
+
+def _search_args(p) -> None:
+    p.add_argument("--seed", type=int, default=1, help="random seed (default 1); same seed, same front")
+    p.add_argument("--population", type=int, default=200, metavar="P", help="designs per generation (default 200)")
+    stop = p.add_mutually_exclusive_group()
+    stop.add_argument("--generations", type=int, metavar="G", help="stop after G generations (default 300)")
+    stop.add_argument("--hours", type=float, metavar="H", help="stop after H hours of wall-clock time")
+    p.add_argument("--stagnation", type=int, metavar="K",
+                   help="also stop when the hypervolume gains less than 1e-4 over K generations")
+    p.add_argument("--jobs", type=int, default=-1, metavar="J", help="worker processes (default -1: all cores)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="evaluate on a Dask cluster at ADDRESS, or 'local' to start one on this machine")
+    p.add_argument("--keep-all", action="store_true", help="also keep every feasible design evaluated (Parquet)")
+    p.add_argument("--quiet", action="store_true", help="no progress bar (batch jobs)")
+
+
 def register(sub, catalog_arg) -> None:
     """Add the subcommands to the parser ``sub``."""
     p = sub.add_parser("init", help="write the commented demo spec as a starting point",
@@ -77,3 +169,31 @@ def register(sub, catalog_arg) -> None:
                    help="one design: print every intermediate quantity, line-cycle samples included")
     catalog_arg(p)
     p.set_defaults(func=cmd_evaluate)
+
+    p = sub.add_parser("run", help="search the design space for the volume-loss-cost Pareto front",
+                       description="Multi-objective search (NSGA-II) over material, core, stack, turns, gap, wire, "
+                                   "parallel wires and switching frequency; writes a run folder.")
+    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("--out", metavar="DIR", help="run folder (default runs/<spec>-<time>)")
+    _search_args(p)
+    catalog_arg(p)
+    p.set_defaults(func=cmd_run)
+
+    p = sub.add_parser("resume", help="continue a stopped or killed run",
+                       description="Continue a run from its last checkpoint; ends as if it had never stopped.")
+    p.add_argument("run_dir", metavar="RUN_DIR")
+    p.add_argument("--more-generations", type=int, metavar="G", help="extend the generation budget by G")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_resume)
+
+    p = sub.add_parser("demo", help="run the built-in scenario end to end (about two minutes)",
+                       description="Search the built-in demo scenario, write a run folder, plots and the build "
+                                   "sheet of the balanced design, and print where they are.")
+    p.add_argument("--out", metavar="DIR", help="run folder (default runs/demo-<time>)")
+    p.add_argument("--seed", type=int, default=1)
+    p.add_argument("--generations", type=int, default=400, metavar="G")
+    p.add_argument("--jobs", type=int, default=1, metavar="J",
+                   help="worker processes (default 1: a 200-design generation is too small to split)")
+    p.add_argument("--quiet", action="store_true")
+    p.set_defaults(func=cmd_demo)

@@ -377,7 +377,8 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     return Evaluation(d, objectives, g, figures, per_op, samples)
 
 
-def _concat(parts: list[Evaluation]) -> Evaluation:
+def concat_evaluations(parts: list[Evaluation]) -> Evaluation:
+    """Join evaluations of consecutive parts of a population into one."""
     if len(parts) == 1:
         return parts[0]
     cat = lambda xs: np.concatenate(xs, axis=0)  # noqa: E731
@@ -398,4 +399,4 @@ def evaluate(ctx: Context, designs: Designs, chunk: int = 4096, keep_samples: bo
     """
     parts = [_evaluate_chunk(ctx, designs.take(slice(i, i + chunk)), keep_samples)
              for i in range(0, len(designs), chunk)]
-    return _concat(parts)
+    return concat_evaluations(parts)

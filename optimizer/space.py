@@ -99,12 +99,12 @@ class DesignSpace:
                        self.wires[np.rint(x[:, 4]).astype(int)], np.rint(x[:, 5]), f_sw)
 
     def canonical(self, x: np.ndarray) -> np.ndarray:
-        """The encoded point of the design that ``x`` decodes to (repairs applied)."""
+        """The encoded point of the design that ``x`` decodes to (repairs applied, bounds kept)."""
+        x = np.clip(np.atleast_2d(np.asarray(x, dtype=float)), self.lower, self.upper)
         d = self.decode(x)
-        pair = np.rint(np.clip(x[:, 0], self.lower[0], self.upper[0])).astype(int)
-        wire_pos = np.searchsorted(self.wires[np.argsort(self.wires)], d.wire)
-        wire_pos = np.argsort(self.wires)[wire_pos]
-        return np.column_stack([pair, d.stack, d.turns, d.gap * 1e3, wire_pos, d.parallel, np.log10(d.f_sw)])
+        pair = np.rint(x[:, 0])
+        gap = np.where(self.distributed[pair.astype(int)], self.lower[3], d.gap * 1e3)
+        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.log10(d.f_sw)])
 
     def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
         """``n`` encoded points drawn uniformly within the bounds."""

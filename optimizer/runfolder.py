@@ -1,0 +1,93 @@
+"""The run folder: everything a search writes, each file replaced atomically (temporary name, then rename).
+
+Layout::
+
+    RUN_DIR/
+      spec.toml          copy of the spec as given
+      catalog.json       the catalog entries the search could use, and the whole catalog's hash
+      run.json           settings and metadata (versions, seed, command line, times, stop reason)
+      pareto.csv         feasible non-dominated designs (columns of `fluxfront evaluate`)
+      history.csv        one row per generation
+      evaluated/         optional: every feasible design evaluated, one Parquet file per generation
+      checkpoint.pkl     state after the last completed generation (resume starts here)
+      run.log            log
+"""
+from __future__ import annotations
+
+import json
+import pickle
+import platform
+import sys
+from importlib import metadata
+from pathlib import Path
+
+import pandas as pd
+
+from catalog import Catalog
+from fluxfront.files import write_atomic
+
+from .space import DesignSpace
+
+LIBRARIES = ("numpy", "scipy", "pymoo", "pandas", "matplotlib", "joblib", "pydantic")
+
+
+def library_versions() -> dict[str, str]:
+    out = {"python": platform.python_version()}
+    for name in ("fluxfront",) + LIBRARIES:
+        try:
+            out[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            out[name] = "not installed"
+    return out
+
+
+def catalog_used(catalog: Catalog, space: DesignSpace) -> dict:
+    """The entries the search can reach, with the whole catalog's content hash."""
+    mats = sorted({int(i) for i in space.pair_material})
+    shapes = sorted({int(i) for i in space.pair_shape})
+    names = (list(catalog.materials), list(catalog.shapes), list(catalog.wires))
+    return {
+        "catalog_sha256": catalog.content_hash(),
+        "sources": catalog.sources,
+        "materials": {names[0][i]: catalog.materials[names[0][i]].model_dump(by_alias=True) for i in mats},
+        "shapes": {names[1][i]: catalog.shapes[names[1][i]].model_dump() for i in shapes},
+        "families": {k: v.model_dump() for k, v in catalog.families.items()},
+        "wires": {names[2][i]: catalog.wires[names[2][i]].__dict__ for i in space.wires.tolist()},
+        "copper": catalog.copper.model_dump(),
+        "costs": catalog.costs.model_dump(),
+    }
+
+
+class RunFolder:
+    def __init__(self, path):
+        self.path = Path(path)
+
+    def file(self, name: str) -> Path:
+        return self.path / name
+
+    def write_json(self, name: str, data: dict) -> None:
+        write_atomic(self.file(name), json.dumps(data, indent=1, default=str) + "\n")
+
+    def read_json(self, name: str) -> dict:
+        return json.loads(self.file(name).read_text())
+
+    def write_csv(self, name: str, frame: pd.DataFrame) -> None:
+        write_atomic(self.file(name), frame.to_csv(index=False))
+
+    def write_parquet(self, name: str, frame: pd.DataFrame) -> None:
+        import io
+
+        buf = io.BytesIO()
+        frame.to_parquet(buf, index=False)
+        write_atomic(self.file(name), buf.getvalue())
+
+    def save_checkpoint(self, state) -> None:
+        write_atomic(self.file("checkpoint.pkl"), pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL))
+
+    def load_checkpoint(self):
+        with open(self.file("checkpoint.pkl"), "rb") as fh:
+            return pickle.load(fh)
+
+
+def command_line() -> str:
+    return " ".join([Path(sys.argv[0]).name] + sys.argv[1:])
