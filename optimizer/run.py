@@ -31,7 +31,7 @@ from fluxfront.report import evaluation_frame
 from fluxfront.spec import Spec
 
 from .front import ParetoArchive, hypervolume, knee_index
-from .parallel import PopulationEvaluator
+from .parallel import MIN_CHUNK, PopulationEvaluator
 from .problem import InductorProblem, SnapToDesigns, duplicate_check
 from .runfolder import RunFolder, catalog_used, command_line, library_versions
 from .space import DesignSpace
@@ -52,6 +52,7 @@ class Settings:
     jobs: int = -1
     scheduler: str | None = None
     keep_all: bool = False
+    min_chunk: int = MIN_CHUNK      # smallest chunk sent to a worker (lower it only to exercise backends)
 
 
 @dataclass
@@ -154,7 +155,7 @@ def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settin
     stop = None
     started = time.monotonic() - state.elapsed_s
     try:
-        with PopulationEvaluator(ctx, settings.jobs, settings.scheduler) as evaluator:
+        with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
             while (stop := _stop_reason(state, settings)) is None:
                 t0 = time.monotonic()
                 ev = _one_generation(state, space, evaluator)

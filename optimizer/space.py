@@ -106,6 +106,23 @@ class DesignSpace:
         gap = np.where(self.distributed[pair.astype(int)], self.lower[3], d.gap * 1e3)
         return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.log10(d.f_sw)])
 
+    def grid(self, gaps_mm, freqs_khz) -> np.ndarray:
+        """Every distinct design with the given gap and frequency values, as encoded rows (for enumeration).
+
+        Gaps apply to discrete-gap materials only (powder pairs take one row per other choice).
+        """
+        rows = []
+        turns = np.arange(np.ceil(self.lower[2]), np.floor(self.upper[2]) + 1)
+        wires = np.arange(len(self.wires))
+        par = np.arange(np.ceil(self.lower[5]), np.floor(self.upper[5]) + 1)
+        logf = np.log10(np.asarray(freqs_khz, dtype=float) * 1e3)
+        for p in range(len(self.pair_material)):
+            gaps = [self.lower[3]] if self.distributed[p] else list(gaps_mm)
+            stacks = np.arange(1, self.pair_max_stack[p] + 1)
+            mesh = np.meshgrid([p], stacks, turns, gaps, wires, par, logf, indexing="ij")
+            rows.append(np.column_stack([m.ravel() for m in mesh]))
+        return self.canonical(np.vstack(rows))
+
     def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
         """``n`` encoded points drawn uniformly within the bounds."""
         return rng.uniform(self.lower, self.upper, size=(n, N_VAR))
