@@ -125,9 +125,9 @@ def cmd_demo(args) -> int:
     out = Path(args.out) if args.out else _default_run_dir("demo")
     if out.exists():
         raise InputError(f"--out {out}: already exists; choose another folder")
-    settings = Settings(seed=args.seed, population=200, generations=args.generations, jobs=args.jobs)
+    settings = Settings(seed=args.seed, population=40, generations=args.generations, jobs=args.jobs)
     print(f"fluxfront demo: the built-in 1.5 kW universal-input PFC scenario, {settings.generations} generations "
-          f"of {settings.population} designs")
+          f"of {settings.population} designs per material")
     outcome = start(spec, demo_spec_path(), catalog, out, settings, quiet=args.quiet)
     code = _finish(outcome, args.quiet)
     after_demo = getattr(sys.modules[__name__], "after_demo", None)
@@ -138,7 +138,8 @@ def cmd_demo(args) -> int:
 
 def _search_args(p) -> None:
     p.add_argument("--seed", type=int, default=1, help="random seed (default 1); same seed, same front")
-    p.add_argument("--population", type=int, default=200, metavar="P", help="designs per generation (default 200)")
+    p.add_argument("--population", type=int, default=40, metavar="P",
+                   help="designs per material per generation (default 40; one population per material)")
     stop = p.add_mutually_exclusive_group()
     stop.add_argument("--generations", type=int, metavar="G", help="stop after G generations (default 300)")
     stop.add_argument("--hours", type=float, metavar="H", help="stop after H hours of wall-clock time")
@@ -194,6 +195,6 @@ def register(sub, catalog_arg) -> None:
     p.add_argument("--seed", type=int, default=1)
     p.add_argument("--generations", type=int, default=400, metavar="G")
     p.add_argument("--jobs", type=int, default=1, metavar="J",
-                   help="worker processes (default 1: a 200-design generation is too small to split)")
+                   help="worker processes (default 1: a generation of a few hundred designs is too small to split)")
     p.add_argument("--quiet", action="store_true")
     p.set_defaults(func=cmd_demo)

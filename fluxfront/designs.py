@@ -36,6 +36,10 @@ class Designs:
     def __len__(self) -> int:
         return len(self.turns)
 
+    @classmethod
+    def concat(cls, parts: list["Designs"]) -> "Designs":
+        return cls(*(np.concatenate([getattr(p, f) for p in parts]) for f in cls.__dataclass_fields__))
+
     def take(self, index) -> "Designs":
         return Designs(*(getattr(self, f)[index] for f in self.__dataclass_fields__))
 

@@ -382,7 +382,7 @@ def concat_evaluations(parts: list[Evaluation]) -> Evaluation:
     if len(parts) == 1:
         return parts[0]
     cat = lambda xs: np.concatenate(xs, axis=0)  # noqa: E731
-    designs = Designs(*(cat([getattr(p.designs, k) for p in parts]) for k in Designs.__dataclass_fields__))
+    designs = Designs.concat([p.designs for p in parts])
     samples = []
     if parts[0].samples:
         samples = [{k: cat([p.samples[j][k] for p in parts]) for k in parts[0].samples[j]}

@@ -88,9 +88,11 @@ class Search(_Section):
     turns_max: Annotated[int, Field(ge=1, le=2000)] = 150
     gap_mm_min: Annotated[float, Field(ge=0, le=50)] = 0.1
     gap_mm_max: Annotated[float, Field(gt=0, le=50)] = 8.0
+    gap_mm_step: Annotated[float, Field(ge=0.001, le=10)] = 0.01
     parallel_max: Annotated[int, Field(ge=1, le=50)] = 4
     f_sw_khz_min: Annotated[float, Field(gt=0, le=10e3)] = 30.0
     f_sw_khz_max: Annotated[float, Field(gt=0, le=10e3)] = 300.0
+    f_sw_khz_step: Annotated[float, Field(ge=0.001, le=1000)] = 0.1
 
     @model_validator(mode="after")
     def _ranges(self):

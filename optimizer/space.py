@@ -9,12 +9,16 @@ Encoding (one row of X per design, all real numbers, rounded by ``decode``):
                            material then core volume, so neighbouring indices are similar cores
  1    stack                1..stack_max, clipped to the shape family's own maximum
  2    turns                turns_min..turns_max
- 3    gap                  gap_mm_min..gap_mm_max [mm]; forced to 0 for distributed-gap materials
+ 3    gap                  gap_mm_min..gap_mm_max [mm] in steps of gap_mm_step; forced to 0 for
+                           distributed-gap materials
  4    wire                 index into the allowed wires, ordered by copper area
  5    parallel             1..parallel_max
- 6    frequency            log10 of f_sw in Hz between the spec's limits (kept continuous,
-                           rounded to 0.1 kHz)
+ 6    frequency            log10 of f_sw in Hz between the spec's limits (searched on a log
+                           scale, rounded to f_sw_khz_step)
 ====  ===================  ===================================================================
+
+The search runs one island per material (``island``): each island encodes only that material's
+pairs, and its rows are mapped back to the whole space's numbering (``to_global``) for the archive.
 
 Incompatible material-shape combinations cannot be encoded at all (the pair list holds only
 compatible ones); a stack beyond the family's maximum and a gap on a powder core are repaired
@@ -22,7 +26,7 @@ in ``decode``.  So every decoded row is a valid design for the evaluator.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -52,6 +56,9 @@ class DesignSpace:
     lower: np.ndarray          # (N_VAR,) bounds of the encoded variables
     upper: np.ndarray
     distributed: np.ndarray    # per pair: material has a distributed gap
+    gap_step_mm: float = 0.01
+    f_step_hz: float = 100.0
+    pair_global: np.ndarray | None = None  # island spaces: each pair's number in the whole space
 
     @classmethod
     def from_spec(cls, spec: Spec, catalog: Catalog) -> "DesignSpace":
@@ -78,23 +85,59 @@ class DesignSpace:
             lo[i] -= 0.499999
             hi[i] += 0.499999
         return cls(pm, ps, np.minimum(catalog.shape_arrays["max_stack"][ps], s.stack_max), w_idx, lo, hi,
-                   catalog.material_arrays.distributed_gap[pm])
+                   catalog.material_arrays.distributed_gap[pm], s.gap_mm_step, s.f_sw_khz_step * 1e3)
 
     @property
     def size(self) -> float:
-        """Number of distinct designs (gap and frequency counted at 0.01 mm and 0.1 kHz steps)."""
+        """Number of distinct designs (gap and frequency counted at their steps; an upper bound)."""
         span = np.round(self.upper - self.lower)
-        gaps = max(np.round((self.upper[3] - self.lower[3]) / 0.01), 1)
-        freq = max(np.round((10 ** self.upper[6] - 10 ** self.lower[6]) / 100), 1)
-        return float(span[0] * span[1] * span[2] * gaps * span[4] * span[5] * freq)
+        return float(span[0] * span[1] * span[2] * len(self.gap_values()) * span[4] * span[5] * len(self.f_values()))
+
+    def island(self, material_index: int) -> "DesignSpace":
+        """The part of the space that uses one material (the search runs one island per material)."""
+        keep = np.nonzero(self.pair_material == material_index)[0]
+        if keep.size == 0:
+            raise ValueError(f"material number {material_index} has no pair in this space")
+        upper = self.upper.copy()
+        upper[0] = keep.size - 1 + 0.499999
+        return replace(self, pair_material=self.pair_material[keep], pair_shape=self.pair_shape[keep],
+                       pair_max_stack=self.pair_max_stack[keep], distributed=self.distributed[keep], upper=upper,
+                       pair_global=keep)
+
+    @property
+    def materials(self) -> list[int]:
+        """Catalog numbers of the materials in the space, in pair order."""
+        return list(dict.fromkeys(self.pair_material.tolist()))
+
+    def to_global(self, x: np.ndarray) -> np.ndarray:
+        """Encoded rows of an island expressed in the whole space's pair numbering."""
+        if self.pair_global is None:
+            return x
+        out = np.array(x, dtype=float)
+        out[:, 0] = self.pair_global[np.rint(out[:, 0]).astype(int)]
+        return out
+
+    def gap_values(self) -> np.ndarray:
+        """Every gap the search can produce [mm]."""
+        lo, hi = np.ceil(self.lower[3] / self.gap_step_mm - 1e-9), np.floor(self.upper[3] / self.gap_step_mm + 1e-9)
+        return np.round(np.arange(lo, hi + 1) * self.gap_step_mm, 6)
+
+    def f_values(self) -> np.ndarray:
+        """Every switching frequency the search can produce [Hz]."""
+        lo = np.ceil(10 ** self.lower[6] / self.f_step_hz - 1e-9)
+        hi = np.floor(10 ** self.upper[6] / self.f_step_hz + 1e-9)
+        return np.round(np.arange(lo, hi + 1) * self.f_step_hz, 3)
 
     def decode(self, x: np.ndarray) -> Designs:
         """Rows of encoded variables -> valid Designs (rounding and repair, see module doc)."""
         x = np.clip(np.atleast_2d(np.asarray(x, dtype=float)), self.lower, self.upper)
         pair = np.rint(x[:, 0]).astype(int)
         stack = np.minimum(np.rint(x[:, 1]).astype(int), self.pair_max_stack[pair])
-        gap = np.where(self.distributed[pair], 0.0, np.round(x[:, 3], 2)) * 1e-3
-        f_sw = np.round(10 ** x[:, 6] / 100.0) * 100.0
+        gap_mm = np.clip(np.round(np.round(x[:, 3] / self.gap_step_mm) * self.gap_step_mm, 6),
+                         self.gap_values()[0], self.gap_values()[-1])
+        gap = np.where(self.distributed[pair], 0.0, gap_mm) * 1e-3
+        f_sw = np.clip(np.round(np.round(10 ** x[:, 6] / self.f_step_hz) * self.f_step_hz, 3),
+                       self.f_values()[0], self.f_values()[-1])
         return Designs(self.pair_material[pair], self.pair_shape[pair], stack, np.rint(x[:, 2]), gap,
                        self.wires[np.rint(x[:, 4]).astype(int)], np.rint(x[:, 5]), f_sw)
 
@@ -106,11 +149,12 @@ class DesignSpace:
         gap = np.where(self.distributed[pair.astype(int)], self.lower[3], d.gap * 1e3)
         return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.log10(d.f_sw)])
 
-    def grid(self, gaps_mm, freqs_khz) -> np.ndarray:
-        """Every distinct design with the given gap and frequency values, as encoded rows (for enumeration).
-
-        Gaps apply to discrete-gap materials only (powder pairs take one row per other choice).
+    def grid(self, gaps_mm=None, freqs_khz=None) -> np.ndarray:
+        """Every distinct design, as encoded rows (for enumeration); gaps and frequencies default to
+        every value the search can produce.  Gaps apply to discrete-gap materials only.
         """
+        gaps_mm = self.gap_values() if gaps_mm is None else gaps_mm
+        freqs_khz = self.f_values() / 1e3 if freqs_khz is None else freqs_khz
         rows = []
         turns = np.arange(np.ceil(self.lower[2]), np.floor(self.upper[2]) + 1)
         wires = np.arange(len(self.wires))
