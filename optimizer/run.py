@@ -47,6 +47,7 @@ log = logging.getLogger("fluxfront.run")
 
 REFERENCE_SAMPLE = 4096      # random designs evaluated to fix the hypervolume reference point
 PARETO_EVERY = 10            # generations between rewrites of pareto.csv (always at the end)
+CHECKPOINT_SHARE = 10.0      # wait at least this many times the last checkpoint's cost before the next
 
 
 @dataclass
@@ -179,6 +180,7 @@ def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settin
     bar = _progress(quiet, settings, state)
     stop = None
     started = time.monotonic() - state.elapsed_s
+    last_save, save_cost = time.monotonic(), 0.0
     try:
         with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
             while (stop := _stop_reason(state, settings)) is None:
@@ -196,7 +198,13 @@ def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settin
                 folder.write_csv("history.csv", pd.DataFrame(state.history))
                 if state.generation % PARETO_EVERY == 0:
                     folder.write_csv("pareto.csv", pareto_frame(ctx, space, state.archive))
-                folder.save_checkpoint(state)
+                # a checkpoint after every generation, unless pickling large populations would take
+                # more than a tenth of the run: then as often as that allows (resume is exact either way)
+                if time.monotonic() - last_save >= CHECKPOINT_SHARE * save_cost:
+                    t_save = time.monotonic()
+                    folder.save_checkpoint(state)
+                    last_save = time.monotonic()
+                    save_cost = last_save - t_save
                 rate = len(ev.designs) / max(time.monotonic() - t0, 1e-9)
                 log.info("generation %d: %d evaluations, %.1f%% feasible, front %d, hypervolume %.5f",
                          state.generation, state.evaluations, 100 * row["feasible_fraction"], row["front_size"], hv)
@@ -215,6 +223,7 @@ def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settin
             bar.close()
     front = pareto_frame(ctx, space, state.archive)
     folder.write_csv("pareto.csv", front)
+    folder.save_checkpoint(state)
     hv = state.history[-1]["hypervolume"] if state.history else 0.0
     meta.update({"end_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "stop_reason": stop,
                  "evaluations": state.evaluations, "generations": state.generation, "front_size": len(front),
