@@ -12,7 +12,7 @@ from __future__ import annotations
 import hashlib
 import json
 import tomllib
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 from functools import cached_property
 from importlib import resources
 from pathlib import Path
@@ -170,6 +170,13 @@ class Catalog:
             band_f_min=bands("f_min_hz", np.inf), band_f_max=bands("f_max_hz", np.inf),
             band_k=bands("k", 1.0), band_alpha=bands("alpha", 1.5), band_beta=bands("beta", 2.0),
         )
+
+    def with_permeability_scaled(self, factor: float) -> "Catalog":
+        """A copy whose materials all have ``factor`` times their permeability (tolerance studies)."""
+        other = Catalog(self.materials, self.families, self.shapes, self.wires, self.copper, self.costs, self.sources)
+        arrays = self.material_arrays
+        other.__dict__["material_arrays"] = replace(arrays, mu_initial=arrays.mu_initial * factor)
+        return other
 
     @cached_property
     def _geometry_table(self) -> geometry.CoreGeometry:

@@ -12,6 +12,7 @@ from .errors import InputError
 from .evaluator import evaluate, prepare
 from .files import write_atomic
 from .report import detail, evaluation_frame, summary_text
+from .buildsheet import PICK_RULES, write_pick
 from .spec import demo_spec_text, load_spec
 
 
@@ -130,10 +131,136 @@ def cmd_demo(args) -> int:
           f"of {settings.population} designs per material")
     outcome = start(spec, demo_spec_path(), catalog, out, settings, quiet=args.quiet)
     code = _finish(outcome, args.quiet)
-    after_demo = getattr(sys.modules[__name__], "after_demo", None)
-    if after_demo is not None and outcome.front_size > 0:
-        after_demo(outcome.folder)
+    if outcome.front_size > 0:
+        for path in write_plots(outcome.folder):
+            print(f"plot: {path}")
+        ctx, front = load_run(outcome.folder)[2:4]
+        from optimizer.front import knee_index
+
+        knee = knee_index(front[["volume_cm3", "total_loss_w", "cost"]].to_numpy())
+        folder = write_pick(outcome.folder, ctx, front, knee)
+        print(f"build sheet of the balanced design: {folder / 'build_sheet.html'} (and build_sheet.md)")
     return code
+
+
+def load_run(run_dir, extra_catalogs=()):
+    """Spec, catalog, evaluation context, front and history of a run folder."""
+    import pandas as pd
+
+    run_dir = Path(run_dir)
+    needed = ("run.json", "spec.toml", "pareto.csv")
+    missing = [n for n in needed if not (run_dir / n).is_file()]
+    if missing:
+        raise InputError(f"{run_dir}: not a run folder (missing {missing[0]}; expected {', '.join(needed)})")
+    meta = json.loads((run_dir / "run.json").read_text())
+    spec, _ = load_spec(run_dir / "spec.toml")
+    base = Path(meta.get("spec_file", run_dir / "spec.toml")).parent
+    catalog = load_catalog([str(base / c) for c in spec.catalog] + list(extra_catalogs))
+    front = pd.read_csv(run_dir / "pareto.csv")
+    history = pd.read_csv(run_dir / "history.csv") if (run_dir / "history.csv").is_file() else None
+    return spec, catalog, prepare(spec, catalog), front, history
+
+
+def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
+    from optimizer.front import knee_index
+
+    from . import plots
+
+    spec, catalog, ctx, front, history = load_run(run_dir, extra_catalogs)
+    out = Path(run_dir) / "plots"
+    paths = []
+    if len(front):
+        knee = knee_index(front[["volume_cm3", "total_loss_w", "cost"]].to_numpy())
+        paths += plots.save(plots.front_volume_loss(front, catalog, knee), out, "front_volume_loss")
+        paths += plots.save(plots.pairwise(front, catalog), out, "front_pairs")
+        paths += plots.save(plots.frequency_along_front(front, catalog), out, "front_frequency")
+    if history is not None and len(history):
+        paths += plots.save(plots.progress(history), out, "progress")
+    return paths
+
+
+def cmd_plot(args) -> int:
+    paths = write_plots(args.run_dir, args.catalog)
+    if not paths:
+        raise InputError(f"{args.run_dir}: nothing to plot (empty front and no history)")
+    for p in paths:
+        print(p)
+    return 0
+
+
+def cmd_pick(args) -> int:
+    from .buildsheet import pick_rows
+
+    for name in ("max_volume_cm3", "max_loss_w", "max_cost"):
+        _positive(name.replace("_", "-"), getattr(args, name), integer=False)
+    spec, catalog, ctx, front, _ = load_run(args.run_dir, args.catalog)
+    rows = pick_rows(front, row=args.row, knee=args.knee, max_volume_cm3=args.max_volume_cm3,
+                     max_loss_w=args.max_loss_w, max_cost=args.max_cost, by=args.by)
+    for row in rows:
+        folder = write_pick(args.run_dir, ctx, front, row)
+        r = front.iloc[row]
+        print(f"row {row}: {r.volume_cm3:.1f} cm3, {r.total_loss_w:.2f} W, cost {r.cost:.2f} -> "
+              f"{folder / 'build_sheet.html'}")
+    return 0
+
+
+def cmd_flux_map(args) -> int:
+    from . import plots
+    from .fluxmap import flux_map
+
+    for v in args.loss_density:
+        _positive("loss-density", v, integer=False)
+    spec, _, catalog = load_problem(args.spec, args.catalog)
+    curves, summary = flux_map(spec, catalog, args.loss_density)
+    out = Path(args.out) if args.out else Path("runs") / f"{Path(args.spec).stem}-flux-map"
+    paths = plots.save(plots.flux_map_figure(curves, summary), out, "flux_map")
+    write_atomic(out / "flux_map_curves.csv", curves.to_csv(index=False))
+    write_atomic(out / "flux_map_crossover.csv", summary.to_csv(index=False))
+    lo, hi = spec.search.f_sw_khz_min, spec.search.f_sw_khz_max
+    print("Frequency above which core loss, not saturation, limits the ripple flux "
+          f"(searched range {lo:g}-{hi:g} kHz):")
+    for _, r in summary.iterrows():
+        fx = r.crossover_khz
+        where = (f"above {fx:.0f} kHz" if lo < fx < hi else
+                 f"loss-limited over the whole range" if fx <= lo else "saturation-limited over the whole range")
+        print(f"  {r.material:22s} ({r['class']}), {r.loss_density_mw_cm3:g} mW/cm3: {where} "
+              f"(saturation allows {r.b_saturation_mt:.0f} mT ripple amplitude)")
+    print(f"wrote {paths[0]}, {out / 'flux_map_crossover.csv'}")
+    return 0
+
+
+def cmd_compare(args) -> int:
+    import numpy as np
+    import pandas as pd
+
+    from optimizer.front import hypervolume
+
+    from . import plots
+
+    if len(args.runs) < 2:
+        raise InputError("compare: expected at least two run folders")
+    fronts = {}
+    for run in args.runs:
+        path = Path(run) / "pareto.csv"
+        if not path.is_file():
+            raise InputError(f"{run}: not a run folder (no pareto.csv)")
+        label = Path(run).name
+        if label in fronts:                      # two runs with the same folder name: tell them apart
+            label = f"{label} ({len(fronts) + 1})"
+        fronts[label] = pd.read_csv(path)
+    cols = ["volume_cm3", "total_loss_w", "cost"]
+    stacked = np.vstack([f[cols].to_numpy() for f in fronts.values() if len(f)])
+    reference = 1.1 * stacked.max(axis=0)
+    table = pd.DataFrame([{"run": k, "front_size": len(f), "hypervolume": hypervolume(f[cols].to_numpy(), reference),
+                           "min_volume_cm3": f.volume_cm3.min(), "min_loss_w": f.total_loss_w.min(),
+                           "min_cost": f.cost.min()} for k, f in fronts.items()])
+    out = Path(args.out) if args.out else Path("runs") / "compare"
+    paths = plots.save(plots.compare_fronts(fronts), out, "compare_fronts")
+    write_atomic(out / "compare.csv", table.to_csv(index=False))
+    print(f"common reference point: volume {reference[0]:.1f} cm3, loss {reference[1]:.2f} W, cost {reference[2]:.2f}")
+    print(table.to_string(index=False))
+    print(f"wrote {paths[0]} and {out / 'compare.csv'}")
+    return 0
 
 
 def _search_args(p) -> None:
@@ -187,6 +314,45 @@ def register(sub, catalog_arg) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     catalog_arg(p)
     p.set_defaults(func=cmd_resume)
+
+    p = sub.add_parser("plot", help="plot a run's front and progress",
+                       description="Write the front, pairwise, frequency and progress plots (PNG and SVG) to RUN_DIR/plots/.")
+    p.add_argument("run_dir", metavar="RUN_DIR")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_plot)
+
+    p = sub.add_parser("pick", help="choose designs from a front and write their build sheets",
+                       description="Choose a design of RUN_DIR's front by row, by knee, or by limits and a rule; "
+                                   "write RUN_DIR/picks/row<N>/build_sheet.html and .md.")
+    p.add_argument("run_dir", metavar="RUN_DIR")
+    how = p.add_mutually_exclusive_group()
+    how.add_argument("--row", type=int, metavar="N", help="row N of pareto.csv (from 0)")
+    how.add_argument("--knee", action="store_true",
+                     help="the balanced design: closest to the ideal point with each objective scaled to 0..1")
+    p.add_argument("--max-volume-cm3", type=float, metavar="V")
+    p.add_argument("--max-loss-w", type=float, metavar="P")
+    p.add_argument("--max-cost", type=float, metavar="C")
+    p.add_argument("--by", choices=PICK_RULES, default="knee",
+                   help="among the designs within the limits, take the knee (default) or the smallest volume, loss or cost")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_pick)
+
+    p = sub.add_parser("flux-map", help="compare materials: loss-limited against saturation-limited ripple flux",
+                       description="For every allowed material, the largest ripple flux amplitude that keeps the core "
+                                   "loss density at a limit, against frequency, beside what saturation allows.")
+    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("--loss-density", type=float, nargs="+", default=[100.0, 300.0], metavar="MW_PER_CM3",
+                   help="core loss density limits in mW/cm3 (default 100 300)")
+    p.add_argument("--out", metavar="DIR", help="output folder (default runs/<spec>-flux-map)")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_flux_map)
+
+    p = sub.add_parser("compare", help="overlay the fronts of several runs",
+                       description="Overlay the fronts of several runs and tabulate their hypervolumes against a "
+                                   "common reference point (1.1 x the worst objective over all fronts).")
+    p.add_argument("runs", nargs="+", metavar="RUN_DIR")
+    p.add_argument("--out", metavar="DIR", help="output folder (default runs/compare)")
+    p.set_defaults(func=cmd_compare)
 
     p = sub.add_parser("demo", help="run the built-in scenario end to end (about two minutes)",
                        description="Search the built-in demo scenario, write a run folder, plots and the build "

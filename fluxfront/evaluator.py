@@ -212,7 +212,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     n_ops = len(ctx.ops)
     per = {k: np.empty((n, n_ops)) for k in (
         "i_peak", "ripple_max", "ripple_ratio", "dcm_fraction", "b_peak", "b_line", "db_max", "kept_fraction",
-        "core_ref", "i_line_rms", "ripple_ms", "switching", "inductance_at_peak")}
+        "core_ref", "core_line_ref", "i_line_rms", "ripple_ms", "switching", "inductance_at_peak")}
     harm = np.empty((n, n_ops, len(ctx.harmonics)))
     samples = []
     for j, op in enumerate(ctx.ops):
@@ -233,6 +233,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         line_loop = core_loss.rectified_sine_loop(per["b_line"][:, j], spec.converter.line_hz, M.band_k[m, lb],
                                                   M.band_alpha[m, lb], M.band_beta[m, lb]) * ve
         per["core_ref"][:, j] = hf_scale * op.core_shape[m, band] + line_loop
+        per["core_line_ref"][:, j] = line_loop
         per["i_line_rms"][:, j] = op.i_rms
         # ripple harmonics over the line cycle: (1/(L0 f))^2 * frac^-2 @ (v d)^2 w_n(D), summed
         # elementwise rather than by BLAS so that a design's result does not depend on its batch
@@ -298,8 +299,10 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     t_surface = lim.ambient_c + dt
     t_hot = t_surface + rise_int
     r_dc = r_dc20[:, None] * (1 + alpha_cu * (t_hot - 20.0))
-    core = per["core_ref"] * core_loss.temperature_factor(t_hot, M.loss_temp_ref[m, None], M.loss_temp_c1[m, None],
-                                                          M.loss_temp_c2[m, None])
+    loss_factor = core_loss.temperature_factor(t_hot, M.loss_temp_ref[m, None], M.loss_temp_c1[m, None],
+                                               M.loss_temp_c2[m, None])
+    core = per["core_ref"] * loss_factor
+    core_line = per["core_line_ref"] * loss_factor
     wdc = r_dc * per["i_line_rms"] ** 2
     wac = r_dc * _lagrange3(t_hot, t_nodes, ac_nodes)
     sw = per["switching"]
@@ -331,6 +334,9 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     price = cost.inductor_cost(core_mass, M.price_per_kg[m], copper_mass, price_cu, N, par,
                                cat.costs.labour_per_turn, d.stack, cat.costs.part_cost_per_core,
                                cat.costs.assembly_cost)
+    cost_parts = {"cost_core": core_mass * M.price_per_kg[m], "cost_copper": copper_mass * price_cu,
+                  "cost_labour": N * par * cat.costs.labour_per_turn,
+                  "cost_parts": d.stack * cat.costs.part_cost_per_core + cat.costs.assembly_cost}
     weighted_total = _weighted(total, wts)
     objectives = np.column_stack([volume * 1e6, weighted_total, price])
     i_l_rms = np.sqrt(per["i_line_rms"] ** 2 + per["ripple_ms"])
@@ -369,8 +375,9 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         "copper_mass_g": copper_mass * 1e3,
         "mass_g": (core_mass + copper_mass) * 1e3,
         "cost": price,
+        **cost_parts,
     }
-    per_op = {"temperature_c": t_hot, "core_loss_w": core, "winding_dc_loss_w": wdc, "winding_ac_loss_w": wac,
+    per_op = {"temperature_c": t_hot, "core_loss_w": core, "core_line_loss_w": core_line, "winding_dc_loss_w": wdc, "winding_ac_loss_w": wac,
               "switching_loss_w": sw, "total_loss_w": total, "b_peak_t": per["b_peak"], "b_sat_t": b_sat,
               "i_peak_a": per["i_peak"], "ripple_pp_max_a": per["ripple_max"], "dcm_fraction": per["dcm_fraction"],
               "inductance_at_peak_uh": per["inductance_at_peak"] * 1e6}

@@ -124,3 +124,23 @@ def select_band(f, f_min, f_max):
     # distance to each band as a frequency ratio >= 1 (1 inside); padding bands (f_min = inf) are infinitely far
     distance = np.maximum(np.maximum(f_min / f, f / f_max), 1.0)
     return np.argmin(distance, axis=1), inside.any(axis=1)
+
+
+def triangle_amplitude_for_loss(pv_limit, f, k, alpha, beta, duty=0.5):
+    """Largest triangular flux amplitude (half the peak-to-peak swing) whose iGSE loss stays at ``pv_limit`` [T].
+
+    Parameters
+    ----------
+    pv_limit : array [W/m3]
+    f : array [Hz]
+    k, alpha, beta : array  Steinmetz parameters
+    duty : array [-]        rising fraction of the period (0.5: the PFC worst case at high line)
+
+    Notes
+    -----
+    Inverse of igse_triangle: ``B = (1/2) (Pv / (k_i f^alpha (D^(1-alpha) + (1-D)^(1-alpha))))^(1/beta)``.
+    """
+    d = np.asarray(duty, dtype=float)
+    shape = d ** (1 - np.asarray(alpha)) + (1 - d) ** (1 - np.asarray(alpha))
+    return 0.5 * (np.asarray(pv_limit) / (igse_ki(k, alpha, beta) * np.asarray(f, dtype=float) ** alpha * shape)) ** (
+        1.0 / np.asarray(beta))

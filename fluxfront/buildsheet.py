@@ -1,0 +1,368 @@
+"""Picking designs from a front, and the prototype build sheet (self-contained HTML and Markdown).
+
+The sheet is assembled as a list of sections made of blocks (paragraphs, tables, lists, figures)
+and rendered twice: HTML with the figures embedded as data URIs (opens offline, no links out),
+and Markdown with the figures as PNG files beside it.  Every number on it comes from the same
+evaluation as ``fluxfront evaluate`` of the design.
+"""
+from __future__ import annotations
+
+import base64
+import html
+import io
+import json
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from catalog import Catalog
+from models import magnetics
+
+from . import plots
+from .designs import DESIGN_COLUMNS, resolve_designs
+from .errors import InputError
+from .evaluator import Context, evaluate, prepare
+from .files import write_atomic
+from .report import SAFETY_NOTE, evaluation_frame
+
+PICK_RULES = ("knee", "volume", "loss", "cost")
+KEY_FIGURES_ID = "key-figures"
+
+
+# ---- picking ---------------------------------------------------------------------------------
+def pick_rows(front: pd.DataFrame, row=None, knee=False, max_volume_cm3=None, max_loss_w=None, max_cost=None,
+              by="knee") -> list[int]:
+    """Row numbers of the front chosen by row, by knee, or by limits then the rule ``by``.
+
+    ``by``: knee (balanced, see optimizer.front.knee_index), volume, loss or cost (smallest).
+    """
+    from optimizer.front import knee_index
+
+    if len(front) == 0:
+        raise InputError("pareto.csv: the front is empty; there is nothing to pick (the run found no feasible design)")
+    if row is not None:
+        if not 0 <= row < len(front):
+            raise InputError(f"--row = {row}: expected a row number from 0 to {len(front) - 1}")
+        return [row]
+    objectives = front[["volume_cm3", "total_loss_w", "cost"]].to_numpy()
+    if knee:
+        return [knee_index(objectives)]
+    ok = np.ones(len(front), dtype=bool)
+    for col, lim, name in (("volume_cm3", max_volume_cm3, "--max-volume-cm3"), ("total_loss_w", max_loss_w, "--max-loss-w"),
+                           ("cost", max_cost, "--max-cost")):
+        if lim is not None:
+            ok &= front[col].to_numpy() <= lim
+    if not ok.any():
+        raise InputError("no design on the front meets the limits; the front spans volume "
+                         f"{front.volume_cm3.min():.1f}-{front.volume_cm3.max():.1f} cm3, loss "
+                         f"{front.total_loss_w.min():.2f}-{front.total_loss_w.max():.2f} W, cost "
+                         f"{front.cost.min():.2f}-{front.cost.max():.2f}")
+    idx = np.nonzero(ok)[0]
+    if by == "knee":
+        return [int(idx[knee_index(objectives[idx])])]
+    col = {"volume": 0, "loss": 1, "cost": 2}[by]
+    return [int(idx[np.argmin(objectives[idx, col])])]
+
+
+# ---- the sheet's content ----------------------------------------------------------------------
+@dataclass
+class Figure:
+    name: str
+    png: bytes
+    caption: str
+
+
+def _figure(fig, name, caption) -> Figure:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", bbox_inches="tight", dpi=110)
+    plots.plt.close(fig)
+    return Figure(name, buf.getvalue(), caption)
+
+
+def _fmt(x, digits=4):
+    if isinstance(x, (bool, np.bool_)):
+        return "yes" if x else "no"
+    if isinstance(x, (int, np.integer)):
+        return str(int(x))
+    if isinstance(x, (float, np.floating)):
+        return f"{float(x):.{digits}g}"
+    return str(x)
+
+
+def _tolerance_rows(ctx: Context, design_row: pd.DataFrame, distributed: bool) -> list[list[str]]:
+    """Inductance, peak flux and largest ripple with the gap (or permeability) 10 % off nominal."""
+    rows = []
+    base = evaluate(ctx, resolve_designs(design_row, ctx.catalog))
+    for factor in (0.9, 1.1):
+        if distributed:
+            cat = ctx.catalog.with_permeability_scaled(factor)
+            ev = evaluate(prepare(ctx.spec, cat), resolve_designs(design_row, cat))
+            label = f"permeability x {factor:g}"
+        else:
+            varied = design_row.assign(gap_mm=design_row["gap_mm"] * factor)
+            ev = evaluate(ctx, resolve_designs(varied, ctx.catalog))
+            label = f"gap x {factor:g}"
+        row = [label]
+        for key in ("inductance_uh", "b_peak_t", "ripple_pp_max_a"):
+            v, v0 = ev.figures[key][0], base.figures[key][0]
+            row.append(f"{_fmt(v)} ({100 * (v / v0 - 1):+.1f} %)")
+        row.append("yes" if ev.feasible[0] else "no: " + ", ".join(
+            n for n, g in zip(("saturation", "ripple", "inductance kept", "fill", "hot spot", "material temperature",
+                               "DCM"), ev.constraints[0]) if g > 0))
+        rows.append(row)
+    return rows
+
+
+def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
+    """Sections of the build sheet for one design (a one-row frame of design columns)."""
+    cat: Catalog = ctx.catalog
+    designs = resolve_designs(design_row, cat)
+    ev = evaluate(ctx, designs, keep_samples=True)
+    table = evaluation_frame(ev, cat).iloc[0]
+    f = {k: v[0] for k, v in ev.figures.items()}
+    d = design_row.iloc[0]
+    mat = cat.materials[d["material"]]
+    shape = cat.shapes[d["shape"]]
+    fam = cat.families[shape.family]
+    geo = cat.core_geometry(designs.shape, designs.stack)
+    spec = ctx.spec
+    distributed = mat.gap_kind == "distributed"
+    sections = []
+
+    sections.append(("Specification", [
+        ("p", f"Boost PFC inductor for {spec.converter.power_w:g} W output, {spec.converter.bus_v:g} V bus, "
+              f"{spec.converter.line_hz:g} Hz mains, efficiency estimate {spec.converter.efficiency:g}; air at "
+              f"{spec.limits.ambient_c:g} C, hot spot at most {spec.limits.hot_spot_max_c:g} C, "
+              f"thermal model '{spec.thermal.model}'."),
+        ("table", ["operating point", "input [Vrms]", "load", "weight", "loss [W]", "hot spot [C]", "peak current [A]",
+                   "peak flux [T]"],
+         [[op.name, _fmt(op.v_rms), _fmt(op.power_w / spec.converter.power_w), _fmt(op.weight),
+           _fmt(ev.per_op["total_loss_w"][0, j]), _fmt(ev.per_op["temperature_c"][0, j], 3),
+           _fmt(ev.per_op["i_peak_a"][0, j]), _fmt(ev.per_op["b_peak_t"][0, j])] for j, op in enumerate(ctx.ops)]),
+    ]))
+
+    gap = float(d["gap_mm"])
+    if distributed:
+        gap_text = "No discrete gap: the powder material carries its gap distributed in the core."
+    elif fam.gap_legs == 2:
+        gap_text = (f"Total gap {gap:g} mm as two spacers of {gap / 2:g} mm, one in each joint of the cut core "
+                    "(non-magnetic, non-conductive spacer material; band the core after gapping).")
+    else:
+        gap_text = (f"Total gap {gap:g} mm ground into the centre leg ({gap / 2:g} mm off each half's centre leg), "
+                    f"or, as an alternative, a spacer of about {gap / 2:g} mm under all legs (the outer legs then "
+                    "add their own gap; re-measure the inductance).")
+    sections.append(("Core and gap", [
+        ("table", ["item", "value"], [
+            ["shape and size", f"{d['shape']} ({shape.family} family)"],
+            ["cores stacked", str(int(d["stack"]))],
+            ["material class", f"{mat.class_} ({mat.id}: {mat.description})"],
+            ["effective length le", f"{_fmt(geo.le[0] * 1e3)} mm"],
+            ["effective area Ae (magnetic)", f"{_fmt(geo.ae[0] * mat.stacking_factor * 1e6)} mm²"],
+            ["effective volume Ve", f"{_fmt(geo.ve[0] * 1e6)} cm³"],
+            ["core mass", f"{_fmt(f['core_mass_g'])} g"],
+        ]),
+        ("p", gap_text),
+    ]))
+
+    wire = cat.wires[d["wire"]]
+    sections.append(("Winding", [
+        ("table", ["item", "value"], [
+            ["wire", f"{d['wire']} ({'litz, ' + str(wire.strands) + ' strands' if wire.kind == 'litz' else 'round magnet wire'}, "
+                     f"{_fmt(wire.outer_diameter * 1e3)} mm over insulation)"],
+            ["wires in parallel", str(int(d["parallel"]))],
+            ["turns", str(int(d["turns"]))],
+            ["coils", "one on each leg, in series, half the turns each" if fam.winding_legs == 2 else "one"],
+            ["turns per layer", _fmt(f["turns_per_layer"])],
+            ["layers", _fmt(f["layers"])],
+            ["wire length (all parallel wires, without leads)", f"{_fmt(f['wire_length_m'])} m"],
+            ["copper fill of the window", _fmt(f["fill"], 3)],
+            ["DC resistance at 20 C", f"{_fmt(f['r_dc_mohm_20c'])} mΩ"],
+            ["copper mass", f"{_fmt(f['copper_mass_g'])} g"],
+        ]),
+        ("p", "Add lead length for the terminations; wind the layers evenly across the full breadth (the AC-loss "
+              "model assumes full layers) and insulate layer to layer as the safety standard requires."),
+    ]))
+
+    n, le = float(d["turns"]), geo.le[0]
+    i_axis = np.linspace(0, 1.3 * f["i_peak_a"], 120)
+    frac = magnetics.powder_permeability_fraction(n * i_axis / le, mat.rolloff_a or 1.0, mat.rolloff_b or 0.0,
+                                                  mat.rolloff_c or 1.0)
+    fig_l = _figure(plots.inductance_curve(i_axis, f["inductance_uh"] * frac, f["i_peak_a"]), "inductance_curve",
+                    "Incremental inductance against DC current" + (
+                        "" if distributed else " (gapped core: flat until the core nears saturation, which this "
+                                               "linear model does not show; the limit is the peak-flux check)"))
+    lcr = ("On an LCR meter at small signal (for example 10 kHz, 0.1-1 V, no DC bias) expect about "
+           f"{_fmt(f['inductance_uh'], 3)} µH")
+    lcr += (". Powder cores are specified to about ±8 % in permeability; the drop under bias needs a DC-bias "
+            f"supply: at the peak current of {_fmt(f['i_peak_a'], 3)} A expect about "
+            f"{_fmt(f['inductance_at_peak_uh'], 3)} µH." if distributed else
+            "; the fringing factor of the gap is included "
+            f"({_fmt(f['fringing_factor'], 3)}). A reading 10-20 % off usually means the gap is off: adjust it "
+            "rather than the turns.")
+    sections.append(("Inductance and bench measurement", [
+        ("table", ["quantity", "value"], [
+            ["inductance at zero bias", f"{_fmt(f['inductance_uh'])} µH"],
+            ["inductance at peak current", f"{_fmt(f['inductance_at_peak_uh'])} µH"],
+            ["peak current (worst point)", f"{_fmt(f['i_peak_a'])} A"],
+            ["RMS current (worst point)", f"{_fmt(f['i_rms_a'])} A"],
+            ["largest ripple, peak to peak", f"{_fmt(f['ripple_pp_max_a'])} A"],
+        ]),
+        ("p", lcr),
+        ("img", fig_l),
+    ]))
+
+    sections.append(("Tolerances", [
+        ("p", "How a ±10 % error of the " + ("permeability" if distributed else "gap") +
+              " moves the inductance, the peak flux and the ripple (re-evaluated with the same models):"),
+        ("table", ["case", "inductance [µH]", "peak flux [T]", "largest ripple [A]", "still feasible"],
+         _tolerance_rows(ctx, design_row, distributed)),
+    ]))
+
+    figs = []
+    for j, op in enumerate(ctx.ops):
+        samples = {k: v[0] for k, v in ev.samples[j].items()}
+        limit = spec.limits.saturation_margin * ev.per_op["b_sat_t"][0, j]
+        figs.append(("img", _figure(plots.line_cycle(samples, op.name, limit), f"line_cycle_{j + 1}",
+                                    f"Over the half line cycle at '{op.name}'")))
+    sections.append(("Over the line cycle", figs))
+
+    sections.append(("Losses", [
+        ("p", "Weighted over the operating points (the loss objective); per point in the specification table."),
+        ("table", ["part", "loss [W]"], [
+            ["core, switching-frequency ripple", _fmt(f["core_loss_w"] - float(ev.per_op["core_line_loss_w"][0] @ spec.weights))],
+            ["core, line-frequency loop", _fmt(float(ev.per_op["core_line_loss_w"][0] @ spec.weights))],
+            ["winding, DC (line-frequency current)", _fmt(f["winding_dc_loss_w"])],
+            ["winding, AC (ripple harmonics)", _fmt(f["winding_ac_loss_w"])],
+            ["semiconductor switching (not in the inductor)", _fmt(f["switching_loss_w"])],
+            ["total", _fmt(f["total_loss_w"])],
+        ]),
+    ]))
+    sections.append(("Cost", [
+        ("table", ["part", "cost"], [["core", _fmt(f["cost_core"])], ["copper", _fmt(f["cost_copper"])],
+                                     ["winding labour", _fmt(f["cost_labour"])], ["parts and assembly", _fmt(f["cost_parts"])],
+                                     ["total", _fmt(f["cost"])]]),
+        ("p", "Representative prices from the catalog's costs.toml and materials.toml, not quotes."),
+    ]))
+    sections.append(("Temperature, mass, volume", [
+        ("table", ["quantity", "value"], [
+            ["hot spot, worst point", f"{_fmt(f['temperature_c'], 3)} C"],
+            ["surface, worst point", f"{_fmt(f['surface_temperature_c'], 3)} C"],
+            ["thermal runaway", _fmt(bool(f["thermal_runaway"]))],
+            ["mass (core + copper)", f"{_fmt(f['mass_g'])} g"],
+            ["boxed volume with winding", f"{_fmt(f['volume_cm3'])} cm³"],
+            ["outer surface", f"{_fmt(f['surface_cm2'])} cm²"],
+        ]),
+    ]))
+    sections.append(("Key figures", [("keytable", [[k, table[k]] for k in table.index])]))
+    sections.append(("Models and sources", [("ul", [
+        "Line-cycle waveforms of an ideal CCM boost PFC: Fundamentals of Power Electronics, 3rd ed., Springer 2020.",
+        "Effective core parameters: IEC 60205; shape sizes after IEC 62317 naming.",
+        f"Inductance: reluctance model; gap fringing '{spec.model.fringing}': Transformer and Inductor Design Handbook, 4th ed.",
+        "Core loss: iGSE per switching period (IEEE COMPEL 2002), Steinmetz parameters of the catalog; line-frequency "
+        "loop as a separate Steinmetz term; loss-temperature factor of the material.",
+        "Winding loss: Dowell's factor over the ripple harmonics (Proc. IEE 113(8), 1966); litz at strand level with the "
+        "exact round-wire skin effect (IEEE Trans. Power Electronics 9(1), 1994); copper after IEC 60028; AWG after ASTM B258.",
+        f"Temperature: '{spec.thermal.model}' model (natural: Churchill-Chu vertical plate, Int. J. Heat Mass Transfer 18, "
+        "1975, plus radiation), losses re-evaluated at temperature until the heat balance converges.",
+    ])]))
+    sections.append(("Assumptions", [("ul", [
+        "Catalog values are representative of the material class, not the data of the part you will buy: check the "
+        "data sheet and re-evaluate with its numbers.",
+        "Continuous conduction is assumed; near the zero crossings the converter may run discontinuous "
+        f"({_fmt(f['dcm_fraction'], 2)} of the cycle here).",
+        "The iGSE ignores the DC bias of the flux; expect somewhat higher core loss, most of all in powder cores.",
+        f"Hot spot = surface temperature + {spec.thermal.internal_rise_k:g} K (lumped model).",
+        "Geometry from principal dimensions (no chamfers or rounded edges).",
+    ])]))
+    sections.append(("Safety", [("p", SAFETY_NOTE), ("ul", [
+        "The PFC stage works at mains potential and its bus capacitor holds around 400 V after switch-off: "
+        "discharge and measure before touching.",
+        "The inductor and its neighbours run hot: mind hot surfaces during and after tests.",
+        "Insulation system, creepage and clearance between winding, core and chassis follow the applicable safety "
+        "standard of the product; defer to local codes and licensed practice.",
+    ])]))
+    return title, sections, table
+
+
+# ---- rendering --------------------------------------------------------------------------------
+CSS = """body{font-family:sans-serif;max-width:60em;margin:2em auto;padding:0 1em;color:#222;line-height:1.45}
+table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #bbb;padding:.25em .6em;text-align:left}
+th{background:#eee}img{max-width:100%}h2{border-bottom:2px solid #ccc;margin-top:1.6em}
+figcaption{font-size:.9em;color:#555}.caution{background:#fff4e5;border-left:4px solid #e69500;padding:.5em 1em}"""
+
+
+def render_html(title: str, sections) -> str:
+    out = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{html.escape(title)}</title>"
+           f"<style>{CSS}</style></head><body><h1>{html.escape(title)}</h1>"
+           f"<p class='caution'>{html.escape(SAFETY_NOTE)}</p>"]
+    for name, blocks in sections:
+        out.append(f"<section><h2>{html.escape(name)}</h2>")
+        for block in blocks:
+            kind = block[0]
+            if kind == "p":
+                out.append(f"<p>{html.escape(block[1])}</p>")
+            elif kind == "ul":
+                out.append("<ul>" + "".join(f"<li>{html.escape(x)}</li>" for x in block[1]) + "</ul>")
+            elif kind == "table":
+                out.append("<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in block[1]) + "</tr>")
+                out.extend("<tr>" + "".join(f"<td>{html.escape(str(c))}</td>" for c in r) + "</tr>" for r in block[2])
+                out.append("</table>")
+            elif kind == "keytable":
+                out.append(f"<table id='{KEY_FIGURES_ID}'><tr><th>column</th><th>value</th></tr>")
+                out.extend(f"<tr><td>{html.escape(k)}</td><td>{html.escape(json.dumps(v if not isinstance(v, np.generic) else v.item()))}</td></tr>"
+                           for k, v in block[1])
+                out.append("</table>")
+            elif kind == "img":
+                fig = block[1]
+                data = base64.b64encode(fig.png).decode()
+                out.append(f"<figure><img alt='{html.escape(fig.caption)}' src='data:image/png;base64,{data}'>"
+                           f"<figcaption>{html.escape(fig.caption)}</figcaption></figure>")
+        out.append("</section>")
+    out.append("</body></html>")
+    return "\n".join(out)
+
+
+def render_markdown(title: str, sections) -> tuple[str, list]:
+    out, files = [f"# {title}", "", f"> {SAFETY_NOTE}", ""], []
+
+    def cell(x):
+        return str(x).replace("|", "/")
+
+    for name, blocks in sections:
+        out += [f"## {name}", ""]
+        for block in blocks:
+            kind = block[0]
+            if kind == "p":
+                out += [block[1], ""]
+            elif kind == "ul":
+                out += [f"- {x}" for x in block[1]] + [""]
+            elif kind in ("table", "keytable"):
+                head, rows = (block[1], block[2]) if kind == "table" else (["column", "value"], block[1])
+                out.append("| " + " | ".join(head) + " |")
+                out.append("|" + "---|" * len(head))
+                out += ["| " + " | ".join(cell(c) for c in r) + " |" for r in rows]
+                out.append("")
+            elif kind == "img":
+                fig = block[1]
+                files.append(fig)
+                out += [f"![{fig.caption}]({fig.name}.png)", ""]
+    return "\n".join(out), files
+
+
+def write_pick(run_dir: Path, ctx: Context, front: pd.DataFrame, row: int) -> Path:
+    """Write RUN_DIR/picks/row<N>/ with build_sheet.html, build_sheet.md and its PNG figures."""
+    design = front.iloc[[row]][list(DESIGN_COLUMNS)].reset_index(drop=True)
+    d = design.iloc[0]
+    title = (f"Build sheet: {d['material']} {int(d['stack'])}x{d['shape']}, "
+             f"{int(d['turns'])} turns, {d['f_sw_khz']:g} kHz (front row {row})")
+    title, sections, _ = build_sheet_content(ctx, design, title)
+    folder = Path(run_dir) / "picks" / f"row{row:03d}"
+    write_atomic(folder / "build_sheet.html", render_html(title, sections))
+    md, figs = render_markdown(title, sections)
+    for fig in figs:
+        write_atomic(folder / f"{fig.name}.png", fig.png)
+    write_atomic(folder / "build_sheet.md", md + "\n")
+    write_atomic(folder / "design.csv", design.to_csv(index=False))
+    return folder

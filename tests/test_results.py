@@ -1,0 +1,144 @@
+"""Plots, picks, build sheet, flux map and compare on a small run made here."""
+import json
+from html.parser import HTMLParser
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import optimize
+
+from fluxfront.buildsheet import KEY_FIGURES_ID, pick_rows
+from fluxfront.cli import main
+from fluxfront.fluxmap import crossover_frequency, flux_map, loss_limited_amplitude, saturation_ripple_amplitude
+from fluxfront.spec import demo_spec_path
+from optimizer.front import knee_index
+
+SECTIONS = ["Specification", "Core and gap", "Winding", "Inductance and bench measurement", "Tolerances",
+            "Over the line cycle", "Losses", "Cost", "Temperature, mass, volume", "Key figures", "Models and sources",
+            "Assumptions", "Safety"]
+
+
+@pytest.fixture(scope="module")
+def run_dir(tmp_path_factory):
+    out = tmp_path_factory.mktemp("res") / "run"
+    assert main(["run", str(demo_spec_path()), "--out", str(out), "--seed", "2", "--population", "30",
+                 "--generations", "15", "--jobs", "1", "--quiet"]) == 0
+    return out
+
+
+def test_plot_files_exist_and_decode(run_dir):
+    from matplotlib import image
+
+    assert main(["plot", str(run_dir)]) == 0
+    for name in ("front_volume_loss", "front_pairs", "front_frequency", "progress"):
+        img = image.imread(run_dir / "plots" / f"{name}.png")
+        assert img.ndim == 3 and img.shape[0] > 100
+        assert (run_dir / "plots" / f"{name}.svg").read_text().lstrip().startswith("<?xml")
+
+
+class _Collector(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.h2, self.links, self.imgs, self.key, self._in, self._row, self._cell = [], [], [], {}, None, [], None
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        if tag == "h2":
+            self._in = "h2"
+        if tag == "a" and "href" in a:
+            self.links.append(a["href"])
+        if tag == "img":
+            self.imgs.append(a["src"])
+        if tag == "table" and a.get("id") == KEY_FIGURES_ID:
+            self._in = "key"
+        if tag == "td" and self._in == "key":
+            self._cell = ""
+
+    def handle_endtag(self, tag):
+        if tag == "h2":
+            self._in = None
+        if tag == "td" and self._cell is not None:
+            self._row.append(self._cell)
+            self._cell = None
+        if tag == "tr" and self._in == "key" and len(self._row) == 2:
+            self.key[self._row[0]] = json.loads(self._row[1])
+        if tag == "tr":
+            self._row = []
+        if tag == "table" and self._in == "key":
+            self._in = None
+
+    def handle_data(self, data):
+        if self._in == "h2":
+            self.h2.append(data)
+        if self._cell is not None:
+            self._cell += data
+
+
+def test_build_sheet_sections_self_contained_and_equal_to_evaluate(run_dir, tmp_path):
+    assert main(["pick", str(run_dir), "--row", "0"]) == 0
+    folder = run_dir / "picks" / "row000"
+    page = _Collector()
+    page.feed((folder / "build_sheet.html").read_text())
+    assert page.h2 == SECTIONS
+    assert not page.links                                    # no external links
+    assert page.imgs and all(src.startswith("data:image/png;base64,") for src in page.imgs)
+    md = (folder / "build_sheet.md").read_text()
+    assert all(f"## {s}" in md for s in SECTIONS)
+    assert "mains" in md and "local codes" in md
+    # the sheet's numbers equal `fluxfront evaluate` of the same design
+    assert main(["evaluate", str(run_dir / "spec.toml"), str(folder / "design.csv"), "--out", str(tmp_path / "e.csv")]) == 0
+    row = pd.read_csv(tmp_path / "e.csv").iloc[0]
+    for col in ("inductance_uh", "inductance_at_peak_uh", "b_peak_t", "total_loss_w", "temperature_c", "volume_cm3", "cost"):
+        assert page.key[col] == row[col], col
+
+
+def test_pick_by_limits_and_knee_stability(run_dir):
+    front = pd.read_csv(run_dir / "pareto.csv")
+    lim_v = float(front.volume_cm3.median())
+    for by in ("knee", "volume", "loss", "cost"):
+        [r] = pick_rows(front, max_volume_cm3=lim_v, by=by)
+        assert front.volume_cm3.iloc[r] <= lim_v
+    [r] = pick_rows(front, max_volume_cm3=lim_v, max_loss_w=float(front.total_loss_w.max()), by="loss")
+    within = front[front.volume_cm3 <= lim_v]
+    assert front.total_loss_w.iloc[r] == within.total_loss_w.min()
+    F = front[["volume_cm3", "total_loss_w", "cost"]].to_numpy()
+    assert pick_rows(front, knee=True) == [knee_index(F)] == [knee_index(F.copy())]
+    # adding a dominated point far away does not move the knee's design
+    worse = np.vstack([F, F.max(axis=0) * 1.001])
+    assert knee_index(F) == knee_index(worse[: len(F)])
+
+
+def test_pick_with_impossible_limits_exit_2(run_dir, capsys):
+    assert main(["pick", str(run_dir), "--max-volume-cm3", "0.001"]) == 2
+    assert "no design on the front meets the limits" in capsys.readouterr().err
+
+
+def test_flux_map_curves_fall_and_crossover_is_the_root(demo_spec, catalog, tmp_path):
+    curves, summary = flux_map(demo_spec, catalog, [100.0, 300.0])
+    for _, g in curves.groupby(["material", "loss_density_mw_cm3"]):
+        assert np.all(np.diff(g["b_loss_mt"].to_numpy()) < 0)   # loss-limited ripple flux falls with frequency
+    checked = 0
+    lo, hi = demo_spec.search.f_sw_khz_min * 1e3, demo_spec.search.f_sw_khz_max * 1e3
+    for _, r in summary.iterrows():
+        if lo < r.crossover_khz * 1e3 < hi:
+            b_sat = saturation_ripple_amplitude(demo_spec, catalog, r.material)
+            root = optimize.brentq(lambda f: loss_limited_amplitude(catalog, r.material, f, r.loss_density_mw_cm3 * 1e3)[0]
+                                   - b_sat, lo, hi, xtol=1e-6, rtol=1e-12)
+            assert r.crossover_khz * 1e3 == pytest.approx(root, rel=1e-6)
+            checked += 1
+    assert checked >= 3
+    assert main(["flux-map", str(demo_spec_path()), "--loss-density", "150", "--out", str(tmp_path / "fm")]) == 0
+    assert (tmp_path / "fm" / "flux_map.png").is_file() and (tmp_path / "fm" / "flux_map_crossover.csv").is_file()
+
+
+def test_crossover_edges(demo_spec, catalog):
+    b = saturation_ripple_amplitude(demo_spec, catalog, "fe_amorphous")
+    assert crossover_frequency(catalog, "fe_amorphous", 1.0, b, 30e3, 300e3) == 30e3      # tiny budget: loss limits at once
+    assert crossover_frequency(catalog, "fe_amorphous", 1e12, b, 30e3, 300e3) == np.inf  # huge budget: never
+
+
+def test_compare_two_runs(run_dir, tmp_path, capsys):
+    assert main(["compare", str(run_dir), str(run_dir), "--out", str(tmp_path / "cmp")]) == 0
+    table = pd.read_csv(tmp_path / "cmp" / "compare.csv")
+    assert len(table) == 2 and table.hypervolume.iloc[0] == table.hypervolume.iloc[1] > 0
+    assert main(["compare", str(run_dir)]) == 2
