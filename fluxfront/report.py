@@ -20,7 +20,7 @@ KEY_FIGURES = (
     "temperature_c", "fill", "mass_g",
 )
 RAW_LIMIT_VALUES = ("saturation_ratio", "ripple_ratio", "inductance_kept_fraction", "winding_fit",
-                    "dcm_fraction", "thermal_runaway")
+                    "dcm_fraction", "thermal_runaway", "steinmetz_in_band")
 
 SAFETY_NOTE = (
     "Hardware cautions: a PFC stage works from the mains and holds a charged bus capacitor (400 V class, "
@@ -64,7 +64,8 @@ def summary_text(ctx: Context, ev: Evaluation, row: int = 0) -> str:
         f"AC {f['winding_ac_loss_w']:.2f} W, switching {f['switching_loss_w']:.2f} W",
         f"  hot spot {f['temperature_c']:.0f} C (worst point){', THERMAL RUNAWAY' if f['thermal_runaway'] else ''}; "
         f"fill {f['fill']:.2f}; {int(f['turns_per_layer'])} turns per layer, {int(f['layers'])} layers",
-        f"  mass {f['mass_g']:.0f} g",
+        f"  mass {f['mass_g']:.0f} g" + ("" if f["steinmetz_in_band"] else
+                                         "; core loss from a Steinmetz fit extrapolated beyond its frequency range"),
         "  per operating point:",
     ]
     for j, op in enumerate(ctx.ops):

@@ -101,12 +101,17 @@ def reference_point(ctx: Context, space: DesignSpace, seed: int) -> np.ndarray:
     return 1.1 * worst
 
 
-def islands(space: DesignSpace) -> list[DesignSpace]:
-    """One sub-space per material, in a fixed order."""
-    return [space.island(m) for m in space.materials]
+def islands(space: DesignSpace, catalog: Catalog) -> list[DesignSpace]:
+    """One sub-space per material, in a fixed order, each within its material's Steinmetz bands."""
+    mats = list(catalog.materials.values())
+    out = []
+    for m in space.materials:
+        bands = mats[m].steinmetz
+        out.append(space.island(m, (min(b.f_min_hz for b in bands), max(b.f_max_hz for b in bands))))
+    return out
 
 
-def new_algorithms(space: DesignSpace, settings: Settings) -> list[NSGA2]:
+def new_algorithms(space: DesignSpace, catalog: Catalog, settings: Settings) -> list[NSGA2]:
     """Seeded NSGA-II per island: island k draws from the seed sequence (seed, k).
 
     Distribution indices of 5 for crossover and mutation (pymoo's defaults are 15 and 20): wider
@@ -114,7 +119,7 @@ def new_algorithms(space: DesignSpace, settings: Settings) -> list[NSGA2]:
     (all four seeds tried reached the enumerated front's hypervolume, against 0.98 with defaults).
     """
     out = []
-    for k, island in enumerate(islands(space)):
+    for k, island in enumerate(islands(space, catalog)):
         algorithm = NSGA2(pop_size=settings.population, sampling=FloatRandomSampling(),
                           crossover=SBX(eta=5, prob=0.9), mutation=PM(eta=5), repair=SnapToDesigns(),
                           eliminate_duplicates=duplicate_check())
@@ -252,7 +257,7 @@ def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings
         "islands": [list(catalog.materials)[m] for m in space.materials],
         "objectives": ["volume_cm3", "total_loss_w", "cost"], "stop_reason": None,
     })
-    state = State(new_algorithms(space, settings), ParetoArchive(space.lower.size, 3), reference)
+    state = State(new_algorithms(space, catalog, settings), ParetoArchive(space.lower.size, 3), reference)
     folder.save_checkpoint(state)
     log.info("run started in %s: seed %d, population %d", out_dir, settings.seed, settings.population)
     return search(ctx, space, folder, settings, state, quiet)

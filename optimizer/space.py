@@ -93,16 +93,24 @@ class DesignSpace:
         span = np.round(self.upper - self.lower)
         return float(span[0] * span[1] * span[2] * len(self.gap_values()) * span[4] * span[5] * len(self.f_values()))
 
-    def island(self, material_index: int) -> "DesignSpace":
-        """The part of the space that uses one material (the search runs one island per material)."""
+    def island(self, material_index: int, f_band_hz: tuple[float, float] | None = None) -> "DesignSpace":
+        """The part of the space that uses one material (the search runs one island per material).
+
+        ``f_band_hz`` narrows the frequency range to where the material's Steinmetz fits hold, so the
+        search never rests its loss figures on an extrapolated fit (when the two ranges overlap).
+        """
         keep = np.nonzero(self.pair_material == material_index)[0]
         if keep.size == 0:
             raise ValueError(f"material number {material_index} has no pair in this space")
-        upper = self.upper.copy()
+        upper, lower = self.upper.copy(), self.lower.copy()
         upper[0] = keep.size - 1 + 0.499999
+        if f_band_hz is not None:
+            lo, hi = np.log10(f_band_hz[0]), np.log10(f_band_hz[1])
+            if lo < upper[6] and hi > lower[6]:
+                lower[6], upper[6] = max(lower[6], lo), min(upper[6], hi)
         return replace(self, pair_material=self.pair_material[keep], pair_shape=self.pair_shape[keep],
                        pair_max_stack=self.pair_max_stack[keep], distributed=self.distributed[keep], upper=upper,
-                       pair_global=keep)
+                       lower=lower, pair_global=keep)
 
     @property
     def materials(self) -> list[int]:
