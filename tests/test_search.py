@@ -179,3 +179,18 @@ def test_existing_run_folder_is_never_overwritten(small_run, capsys):
     assert main(["run", str(demo_spec_path()), "--out", str(small_run), "--quiet"]) == 2
     assert "already exists" in capsys.readouterr().err
     assert (small_run / "pareto.csv").read_bytes() == before
+
+
+def test_time_budget_stagnation_and_keep_all(tmp_path, catalog):
+    spec, _ = load_spec(demo_spec_path())
+    # a budget of a fraction of a second stops after the first generation
+    out = start(spec, demo_spec_path(), catalog, tmp_path / "t",
+                Settings(seed=1, population=20, generations=None, hours=1e-7, jobs=1, keep_all=True), quiet=True)
+    assert out.generations == 1 and "time budget" in out.stop_reason
+    assert list((tmp_path / "t" / "evaluated").glob("gen_*.parquet"))
+    kept = pd.read_parquet(next((tmp_path / "t" / "evaluated").glob("gen_*.parquet")))
+    assert kept["feasible"].all()
+    # stagnation: with a tiny population the hypervolume stalls; the run stops before its generation cap
+    out = start(spec, demo_spec_path(), catalog, tmp_path / "s",
+                Settings(seed=1, population=4, generations=500, stagnation=3, jobs=1), quiet=True)
+    assert out.generations < 500 and "hypervolume gained" in out.stop_reason
