@@ -237,7 +237,10 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         per["i_line_rms"][:, j] = op.i_rms
         # ripple harmonics over the line cycle: (1/(L0 f))^2 * frac^-2 @ (v d)^2 w_n(D), summed
         # elementwise rather than by BLAS so that a design's result does not depend on its batch
-        harm[:, j, :] = _rowdot(frac**-2, op.harmonic_matrix) / ((l0 * f) ** 2)[:, None]
+        # gapped cores keep L0 over the cycle (frac = 1): their sum is the column sum, computed once
+        weights = np.broadcast_to(op.harmonic_matrix.sum(axis=0), (n, len(ctx.harmonics))).copy()
+        weights[pw] = _rowdot(frac[pw] ** -2, op.harmonic_matrix)
+        harm[:, j, :] = weights / ((l0 * f) ** 2)[:, None]
         per["ripple_ms"][:, j] = harm[:, j, :].sum(axis=1)
         per["switching"][:, j] = switching.switching_loss(op.switching_energy, f)
         if keep_samples:
