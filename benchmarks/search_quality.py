@@ -12,7 +12,6 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 
 from catalog import load_catalog

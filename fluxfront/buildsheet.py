@@ -23,7 +23,7 @@ from models import magnetics
 from . import plots
 from .designs import DESIGN_COLUMNS, resolve_designs
 from .errors import InputError
-from .evaluator import Context, evaluate, prepare
+from .evaluator import CONSTRAINTS, Context, evaluate, prepare
 from .files import write_atomic
 from .report import SAFETY_NOTE, evaluation_frame
 
@@ -50,8 +50,7 @@ def pick_rows(front: pd.DataFrame, row=None, knee=False, max_volume_cm3=None, ma
     if knee:
         return [knee_index(objectives)]
     ok = np.ones(len(front), dtype=bool)
-    for col, lim, name in (("volume_cm3", max_volume_cm3, "--max-volume-cm3"), ("total_loss_w", max_loss_w, "--max-loss-w"),
-                           ("cost", max_cost, "--max-cost")):
+    for col, lim in (("volume_cm3", max_volume_cm3), ("total_loss_w", max_loss_w), ("cost", max_cost)):
         if lim is not None:
             ok &= front[col].to_numpy() <= lim
     if not ok.any():
@@ -109,8 +108,7 @@ def _tolerance_rows(ctx: Context, design_row: pd.DataFrame, distributed: bool) -
             v, v0 = ev.figures[key][0], base.figures[key][0]
             row.append(f"{_fmt(v)} ({100 * (v / v0 - 1):+.1f} %)")
         row.append("yes" if ev.feasible[0] else "no: " + ", ".join(
-            n for n, g in zip(("saturation", "ripple", "inductance kept", "fill", "hot spot", "material temperature",
-                               "DCM"), ev.constraints[0]) if g > 0))
+            n.replace("_", " ") for n, g in zip(CONSTRAINTS, ev.constraints[0], strict=True) if g > 0))
         rows.append(row)
     return rows
 

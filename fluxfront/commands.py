@@ -222,7 +222,7 @@ def cmd_flux_map(args) -> int:
     for _, r in summary.iterrows():
         fx = r.crossover_khz
         where = (f"above {fx:.0f} kHz" if lo < fx < hi else
-                 f"loss-limited over the whole range" if fx <= lo else "saturation-limited over the whole range")
+                 "loss-limited over the whole range" if fx <= lo else "saturation-limited over the whole range")
         print(f"  {r.material:22s} ({r['class']}), {r.loss_density_mw_cm3:g} mW/cm3: {where} "
               f"(saturation allows {r.b_saturation_mt:.0f} mT ripple amplitude)")
     print(f"wrote {paths[0]}, {out / 'flux_map_crossover.csv'}")

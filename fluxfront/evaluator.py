@@ -16,6 +16,7 @@ Three facts keep the population work small, each exact within the CCM model:
 """
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -62,7 +63,7 @@ class Context:
     harmonics: np.ndarray
     band_ki: np.ndarray       # (n_materials, n_bands)
     line_band: np.ndarray     # (n_materials,) band used for the line-frequency loop
-    fringing: object
+    fringing: Callable  # gap fringing model chosen in the spec (magnetics.FRINGING_MODELS)
 
 
 def prepare(spec: Spec, catalog: Catalog) -> Context:
@@ -203,7 +204,6 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         return out
 
     band, in_band = core_loss.select_band(f, M.band_f_min[m], M.band_f_max[m])
-    tf_ref = np.ones(n)  # sampled loss densities are at the material's reference temperature
     k_i, alpha, beta = ctx.band_ki[m, band], M.band_alpha[m, band], M.band_beta[m, band]
     lb = ctx.line_band[m]
     hf_scale = k_i * f**alpha * (N * ae * f) ** (-beta) * ve
@@ -245,8 +245,9 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         per["switching"][:, j] = switching.switching_loss(op.switching_energy, f)
         if keep_samples:
             db = op.volt_seconds / (N * ae * f)[:, None]
+            # loss density at the material's reference temperature (the sheet's plots say so)
             pv = core_loss.igse_triangle(db, op.duty, f[:, None], M.band_k[m, band][:, None], alpha[:, None],
-                                         beta[:, None]) * tf_ref[:, None]
+                                         beta[:, None])
             shape = ripple.shape
             samples.append({
                 "angle_deg": np.broadcast_to(np.degrees(op.theta), shape), "v_in_v": np.broadcast_to(op.v_in, shape),
