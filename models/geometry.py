@@ -130,6 +130,21 @@ class CoreGeometry:
     coil_growth: np.ndarray     # (..., 3) growth of the coil outline per metre of build [-]
 
 
+def _e_like_geometry(a, b, d, e, f, depth, outer, centre, perimeter, coil_depth, wall) -> "CoreGeometry":
+    """Geometry shared by the E-type pairs: path segments, window, outline (see e_pair, pq_pair)."""
+    lengths, areas = _e_like_segments(a, b, depth, d, e, f, outer, centre)
+    le, ae, ve = effective_parameters(lengths, areas)
+    return CoreGeometry(
+        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1), gap_area=centre,
+        window_area=2 * d * (e - f) / 2,
+        window_breadth=2 * d - 2 * wall, window_height=(e - f) / 2 - wall,
+        gap_window_height=2 * d, leg_perimeter=perimeter, bobbin_wall=wall,
+        core_box=np.stack([a, 2 * b, depth], axis=-1),
+        coil_box0=np.stack([f + 2 * wall, np.zeros_like(a), coil_depth + 2 * wall], axis=-1),
+        coil_growth=np.stack([np.full_like(a, 2.0), np.zeros_like(a), np.full_like(a, 2.0)], axis=-1),
+    )
+
+
 def e_pair(a, b, c, d, e, f, stack, bobbin_wall, round_leg=False):
     """Geometry of a pair of E (rectangular leg) or ETD (round leg) halves.
 
@@ -154,18 +169,7 @@ def e_pair(a, b, c, d, e, f, stack, bobbin_wall, round_leg=False):
     else:
         centre = f * depth
         perimeter = 2 * (f + depth)
-    outer = (a - e) * depth
-    lengths, areas = _e_like_segments(a, b, depth, d, e, f, outer, centre)
-    le, ae, ve = effective_parameters(lengths, areas)
-    return CoreGeometry(
-        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1), gap_area=centre,
-        window_area=2 * d * (e - f) / 2,
-        window_breadth=2 * d - 2 * wall, window_height=(e - f) / 2 - wall,
-        gap_window_height=2 * d, leg_perimeter=perimeter, bobbin_wall=wall,
-        core_box=np.stack([a, 2 * b, depth], axis=-1),
-        coil_box0=np.stack([f + 2 * wall, np.zeros_like(a), depth + 2 * wall], axis=-1),
-        coil_growth=np.stack([np.full_like(a, 2.0), np.zeros_like(a), np.full_like(a, 2.0)], axis=-1),
-    )
+    return _e_like_geometry(a, b, d, e, f, depth, (a - e) * depth, centre, perimeter, depth, wall)
 
 
 def pq_pair(a, b, c, d, e, f, stack, bobbin_wall):
@@ -177,18 +181,7 @@ def pq_pair(a, b, c, d, e, f, stack, bobbin_wall):
     a, b, c, d, e, f, stack, wall = np.broadcast_arrays(
         *(np.asarray(x, dtype=float) for x in (a, b, c, d, e, f, stack, bobbin_wall)))
     outer = a * c - _circle_in_band_area(e / 2, c / 2)
-    centre = np.pi * f**2 / 4
-    lengths, areas = _e_like_segments(a, b, c, d, e, f, outer, centre)
-    le, ae, ve = effective_parameters(lengths, areas)
-    return CoreGeometry(
-        le=le, ae=ae, ve=ve, a_min=np.min(areas, axis=-1), gap_area=centre,
-        window_area=2 * d * (e - f) / 2,
-        window_breadth=2 * d - 2 * wall, window_height=(e - f) / 2 - wall,
-        gap_window_height=2 * d, leg_perimeter=np.pi * f, bobbin_wall=wall,
-        core_box=np.stack([a, 2 * b, c], axis=-1),
-        coil_box0=np.stack([f + 2 * wall, np.zeros_like(a), f + 2 * wall], axis=-1),
-        coil_growth=np.stack([np.full_like(a, 2.0), np.zeros_like(a), np.full_like(a, 2.0)], axis=-1),
-    )
+    return _e_like_geometry(a, b, d, e, f, c, outer, np.pi * f**2 / 4, np.pi * f, f, wall)
 
 
 def ring(od, id_, h, stack, bobbin_wall):
