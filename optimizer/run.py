@@ -179,7 +179,7 @@ def _progress(quiet: bool, settings: Settings, state: State):
 
 
 def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settings, state: State,
-           quiet: bool = False) -> Outcome:
+           evaluator: PopulationEvaluator, quiet: bool = False) -> Outcome:
     """Run generations until a stop rule holds; write the run folder as it goes."""
     meta = folder.read_json("run.json")
     bar = _progress(quiet, settings, state)
@@ -187,40 +187,39 @@ def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settin
     started = time.monotonic() - state.elapsed_s
     last_save, save_cost = time.monotonic(), 0.0
     try:
-        with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
-            while (stop := _stop_reason(state, settings)) is None:
-                t0 = time.monotonic()
-                ev = _one_generation(state, space, evaluator)
-                state.elapsed_s = time.monotonic() - started
-                hv = hypervolume(state.archive.F, state.reference)
-                row = {"generation": state.generation, "evaluations": state.evaluations,
-                       "feasible_fraction": float(ev.feasible.mean()), "front_size": len(state.archive),
-                       "hypervolume": hv, "elapsed_s": round(state.elapsed_s, 3)}
-                state.history.append(row)
-                if settings.keep_all and ev.feasible.any():
-                    folder.write_parquet(f"evaluated/gen_{state.generation:06d}.parquet",
-                                         evaluation_frame(ev, ctx.catalog)[ev.feasible])
-                folder.write_csv("history.csv", pd.DataFrame(state.history))
-                if state.generation % PARETO_EVERY == 0:
-                    folder.write_csv("pareto.csv", pareto_frame(ctx, space, state.archive))
-                # a checkpoint after every generation, unless pickling large populations would take
-                # more than a tenth of the run: then as often as that allows (resume is exact either way)
-                if time.monotonic() - last_save >= CHECKPOINT_SHARE * save_cost:
-                    t_save = time.monotonic()
-                    folder.save_checkpoint(state)
-                    last_save = time.monotonic()
-                    save_cost = last_save - t_save
-                rate = len(ev.designs) / max(time.monotonic() - t0, 1e-9)
-                log.info("generation %d: %d evaluations, %.1f%% feasible, front %d, hypervolume %.5f",
-                         state.generation, state.evaluations, 100 * row["feasible_fraction"], row["front_size"], hv)
-                if bar is not None:
-                    left = ""
-                    if settings.hours is not None:
-                        left = f"{max(settings.hours * 3600 - state.elapsed_s, 0) / 60:.1f} min"
-                    bar.set_postfix_str(f"{rate:,.0f} eval/s, feasible {row['feasible_fraction']:.0%}, "
-                                        f"front {row['front_size']}, HV {hv:.4f}" + (f", left {left}" if left else ""),
-                                        refresh=False)
-                    bar.update(1)
+        while (stop := _stop_reason(state, settings)) is None:
+            t0 = time.monotonic()
+            ev = _one_generation(state, space, evaluator)
+            state.elapsed_s = time.monotonic() - started
+            hv = hypervolume(state.archive.F, state.reference)
+            row = {"generation": state.generation, "evaluations": state.evaluations,
+                   "feasible_fraction": float(ev.feasible.mean()), "front_size": len(state.archive),
+                   "hypervolume": hv, "elapsed_s": round(state.elapsed_s, 3)}
+            state.history.append(row)
+            if settings.keep_all and ev.feasible.any():
+                folder.write_parquet(f"evaluated/gen_{state.generation:06d}.parquet",
+                                     evaluation_frame(ev, ctx.catalog)[ev.feasible])
+            folder.write_csv("history.csv", pd.DataFrame(state.history))
+            if state.generation % PARETO_EVERY == 0:
+                folder.write_csv("pareto.csv", pareto_frame(ctx, space, state.archive))
+            # a checkpoint after every generation, unless pickling large populations would take
+            # more than a tenth of the run: then as often as that allows (resume is exact either way)
+            if time.monotonic() - last_save >= CHECKPOINT_SHARE * save_cost:
+                t_save = time.monotonic()
+                folder.save_checkpoint(state)
+                last_save = time.monotonic()
+                save_cost = last_save - t_save
+            rate = len(ev.designs) / max(time.monotonic() - t0, 1e-9)
+            log.info("generation %d: %d evaluations, %.1f%% feasible, front %d, hypervolume %.5f",
+                     state.generation, state.evaluations, 100 * row["feasible_fraction"], row["front_size"], hv)
+            if bar is not None:
+                left = ""
+                if settings.hours is not None:
+                    left = f"{max(settings.hours * 3600 - state.elapsed_s, 0) / 60:.1f} min"
+                bar.set_postfix_str(f"{rate:,.0f} eval/s, feasible {row['feasible_fraction']:.0%}, "
+                                    f"front {row['front_size']}, HV {hv:.4f}" + (f", left {left}" if left else ""),
+                                    refresh=False)
+                bar.update(1)
     except KeyboardInterrupt:
         stop = "interrupted (resume with: fluxfront resume RUN_DIR)"
     finally:
@@ -241,9 +240,18 @@ def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settin
 
 def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings: Settings,
           quiet: bool = False) -> Outcome:
-    """A new run: make the folder, write spec, catalog and metadata, then search."""
+    """A new run: open the workers, make the folder, write spec, catalog and metadata, then search.
+
+    The workers (or the cluster connection) come first so that a scheduler that cannot be reached
+    stops the command before anything is written.
+    """
     ctx = prepare(spec, catalog)
     space = DesignSpace.from_spec(spec, catalog)
+    with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
+        return _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet)
+
+
+def _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet) -> Outcome:
     out_dir.mkdir(parents=True, exist_ok=False)
     folder = RunFolder(out_dir)
     _attach_log(folder)
@@ -260,7 +268,7 @@ def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings
     state = State(new_algorithms(space, catalog, settings), ParetoArchive(space.lower.size, 3), reference)
     folder.save_checkpoint(state)
     log.info("run started in %s: seed %d, population %d", out_dir, settings.seed, settings.population)
-    return search(ctx, space, folder, settings, state, quiet)
+    return search(ctx, space, folder, settings, state, evaluator, quiet)
 
 
 def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generations: int | None = None) -> Outcome:
@@ -286,7 +294,8 @@ def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generation
     folder.write_json("run.json", meta)
     log.info("resumed at generation %d", state.generation)
     ctx = prepare(spec, catalog)
-    return search(ctx, DesignSpace.from_spec(spec, catalog), folder, settings, state, quiet)
+    with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
+        return search(ctx, DesignSpace.from_spec(spec, catalog), folder, settings, state, evaluator, quiet)
 
 
 def _attach_log(folder: RunFolder) -> None:
