@@ -116,8 +116,10 @@ class Evaluation:
 def _rowdot(a, b):
     """``a @ b`` for a (n, S) and b (S, H), summed in a fixed order (batch-independent bits)."""
     out = np.zeros((a.shape[0], b.shape[1]))
+    term = np.empty_like(out)
     for k in range(a.shape[1]):          # a loop over line-cycle samples, not over designs
-        out += a[:, k, None] * b[k]
+        np.multiply(a[:, k, None], b[k], out=term)
+        out += term
     return out
 
 
@@ -133,6 +135,15 @@ def _lagrange3(x, nodes, values):
     l1 = (x - x0) * (x - x2) / ((x1 - x0) * (x1 - x2))
     l2 = (x - x0) * (x - x1) / ((x2 - x0) * (x2 - x1))
     return l0 * values[..., 0] + l1 * values[..., 1] + l2 * values[..., 2]
+
+
+def _lagrange3_slope(x, nodes, values):
+    """Derivative in x of the quadratic through three (node, value) pairs."""
+    x0, x1, x2 = nodes
+    d0 = (2 * x - x1 - x2) / ((x0 - x1) * (x0 - x2))
+    d1 = (2 * x - x0 - x2) / ((x1 - x0) * (x1 - x2))
+    d2 = (2 * x - x0 - x1) / ((x2 - x0) * (x2 - x1))
+    return d0 * values[..., 0] + d1 * values[..., 1] + d2 * values[..., 2]
 
 
 def _dissipation(spec: Spec, area, height):
@@ -282,24 +293,40 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
                                                    M.loss_temp_c2[m][i])
     rise_int, alpha_cu = spec.thermal.internal_rise_k, cat.copper.tempco_per_k
     core_ref, i2, r20 = per["core_ref"], per["i_line_rms"] ** 2, np.broadcast_to(r_dc20[:, None], (n, n_ops))
-    dt = np.full((n, n_ops), 30.0)
+    # starting guess: the loss at a 30 K rise spread with a typical 12 W/(m2 K) of convection plus
+    # radiation (only a start; the Newton steps below settle the balance)
+    t0 = lim.ambient_c + 30.0 + rise_int
+    loss0 = core_ref * tf(t0, slice(None))[:, None] + r20 * (1 + alpha_cu * (t0 - 20.0)) * (
+        i2 + _lagrange3(t0, t_nodes, ac_nodes))
+    dt = np.clip(loss0 / (12.0 * area), 1.0, 1500.0)
     converged = np.zeros((n, n_ops), dtype=bool)
     active = np.nonzero(np.ones((n, n_ops), dtype=bool))
-    for _ in range(60):  # Newton on dissipation(dT) = loss(dT), only where not yet converged
+    slope = lambda t, i: core_loss.temperature_factor_slope(t, M.loss_temp_ref[m][i], M.loss_temp_c1[m][i],  # noqa: E731
+                                                            M.loss_temp_c2[m][i])
+    stable = np.zeros((n, n_ops), dtype=bool)
+    for _ in range(60):
+        # Newton on dissipation(dT) - loss(dT) = 0, only where not yet converged.  The loss slope in
+        # the denominator makes it converge in a few steps; its floor (a fifth of the dissipation
+        # slope) keeps each step moving up towards the first, stable, crossing from below.
         rows = active[0]
         x = dt[active]
         t_hot = lim.ambient_c + x + rise_int
-        loss = (core_ref[active] * tf(t_hot, rows)
-                + r20[active] * (1 + alpha_cu * (t_hot - 20.0)) * (i2[active] + _lagrange3(t_hot, t_nodes, ac_nodes[active])))
+        ac = _lagrange3(t_hot, t_nodes, ac_nodes[active])
+        r_t = r20[active] * (1 + alpha_cu * (t_hot - 20.0))
+        loss = core_ref[active] * tf(t_hot, rows) + r_t * (i2[active] + ac)
+        dloss = (core_ref[active] * slope(t_hot, rows) + r20[active] * alpha_cu * (i2[active] + ac)
+                 + r_t * _lagrange3_slope(t_hot, t_nodes, ac_nodes[active]))
         p, dp = _dissipation(spec, area[active], height[active])(x)
-        new = np.clip(x - (p - loss) / np.maximum(dp, 1e-9), 0.0, 2000.0)
+        new = np.clip(x - (p - loss) / np.maximum(dp - dloss, 0.2 * dp), 0.0, 2000.0)
         done = np.abs(new - x) < 0.01
         dt[active] = new
-        converged[active[0][done], active[1][done]] = True
+        hit = (active[0][done], active[1][done])
+        converged[hit] = True
+        stable[hit] = (dp > dloss)[done]          # dissipation rises faster than loss: a stable balance
         active = (active[0][~done], active[1][~done])
         if active[0].size == 0:
             break
-    runaway = ~converged | (dt >= 1000.0)
+    runaway = ~converged | ~stable | (dt >= 1000.0)
     t_surface = lim.ambient_c + dt
     t_hot = t_surface + rise_int
     r_dc = r_dc20[:, None] * (1 + alpha_cu * (t_hot - 20.0))

@@ -144,3 +144,10 @@ def triangle_amplitude_for_loss(pv_limit, f, k, alpha, beta, duty=0.5):
     shape = d ** (1 - np.asarray(alpha)) + (1 - d) ** (1 - np.asarray(alpha))
     return 0.5 * (np.asarray(pv_limit) / (igse_ki(k, alpha, beta) * np.asarray(f, dtype=float) ** alpha * shape)) ** (
         1.0 / np.asarray(beta))
+
+
+def temperature_factor_slope(temperature_c, t_ref, c1, c2):
+    """Derivative of temperature_factor with respect to temperature [1/K] (0 where the floor holds)."""
+    dt = np.asarray(temperature_c, dtype=float) - np.asarray(t_ref)
+    value = 1.0 + np.asarray(c1) * dt + np.asarray(c2) * dt * dt
+    return np.where(value > 0.2, np.asarray(c1) + 2.0 * np.asarray(c2) * dt, 0.0)

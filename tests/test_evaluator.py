@@ -85,3 +85,29 @@ def test_random_valid_designs_give_finite_numbers(seed, demo_context, catalog, d
         assert np.all(np.isfinite(np.asarray(v, dtype=float))), k
     # a design reported feasible has no thermal runaway and meets every limit
     assert not np.any(ev.feasible & ev.figures["thermal_runaway"])
+
+
+def test_reported_temperature_balances_loss_and_dissipation(demo_context, catalog):
+    # heat balance at the result: natural convection + radiation from the boxed surface (Churchill-Chu,
+    # the model under test in test_thermal.py) carries away exactly the inductor's own loss
+    from models import thermal
+
+    ev = _eval(demo_context, catalog, [FERRITE])
+    spec = demo_context.spec
+    loss = (ev.per_op["core_loss_w"] + ev.per_op["winding_dc_loss_w"] + ev.per_op["winding_ac_loss_w"])[0]
+    surface = ev.per_op["temperature_c"][0] - spec.thermal.internal_rise_k
+    geo_box = ev.figures["surface_cm2"][0] * 1e-4
+    d = resolve_designs(pd.DataFrame([FERRITE]), catalog)
+    from models import geometry
+    size = geometry.boxed_size(catalog.core_geometry(d.shape, d.stack), ev.figures["layers"][0] *
+                               catalog.wires["litz175x38awg"].outer_diameter)
+    p, _ = thermal.natural_convection(surface - spec.limits.ambient_c, spec.limits.ambient_c, geo_box,
+                                      size.max(), spec.thermal.emissivity)
+    np.testing.assert_allclose(p, loss, rtol=2e-3)   # the solver stops when the step is below 0.01 K
+
+
+def test_overloaded_small_core_is_thermal_runaway(demo_context, catalog):
+    tiny = dict(FERRITE, shape="E30/15/7", turns=12, gap_mm=0.5, wire="awg24-g2", f_sw_khz=300)
+    ev = _eval(demo_context, catalog, [tiny])
+    assert ev.figures["thermal_runaway"][0] and not ev.feasible[0]
+    assert ev.constraints[0, 4] > 0 and np.isfinite(ev.constraints[0]).all()
