@@ -274,6 +274,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
     d_s, n_s = W["strand_diameter"][w], W["strands"][w]
     # porosity of a layer: copper width along the layer over its breadth
     breadth = np.where(ring, np.pi * 2 * np.maximum(geo.window_height - od / 2, od), geo.window_breadth)
+    # (held within (0, 1]: a layer cannot hold more copper than its breadth, nor less than a trace)
     eta = np.clip(tpl * par * np.where(litz, np.sqrt(n_s) * d_s, d_s) / breadth, 1e-3, 1.0)
     strand_layers = np.where(litz, layers * np.sqrt(n_s), layers)
     ac_nodes = np.empty((n, n_ops, 3))
@@ -326,6 +327,8 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         active = (active[0][~done], active[1][~done])
         if active[0].size == 0:
             break
+    # no converged, stable balance, or one above a 1000 K rise (no insulation or core survives that):
+    # thermal runaway
     runaway = ~converged | ~stable | (dt >= 1000.0)
     t_surface = lim.ambient_c + dt
     t_hot = t_surface + rise_int
