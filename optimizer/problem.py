@@ -1,7 +1,8 @@
 """The search contract: encoded designs X -> objectives F (minimised) and constraints G (<= 0 when met)."""
 from __future__ import annotations
 
-from pymoo.core.duplicate import DefaultDuplicateElimination
+import numpy as np
+from pymoo.core.duplicate import DuplicateElimination
 from pymoo.core.problem import Problem
 from pymoo.core.repair import Repair
 
@@ -30,8 +31,29 @@ class SnapToDesigns(Repair):
         return problem.space.canonical(X)
 
 
-def duplicate_check() -> DefaultDuplicateElimination:
-    """Two encoded rows are duplicates when equal after the snap (distance below 1e-9)."""
-    return DefaultDuplicateElimination(epsilon=1e-9)
+class SnappedDuplicates(DuplicateElimination):
+    """Two encoded rows are duplicates when they are equal after the snap to designs.
+
+    Snapped rows of the same design are bit-identical, so a hash set finds duplicates in linear
+    time; pymoo's default builds a full distance matrix (benchmarks/encoding_choice.py measures both).
+    A row is a duplicate of an earlier row of the same population, or of any row of ``other``.
+    """
+
+    def _do(self, pop, other, is_duplicate):
+        keys = [row.tobytes() for row in np.ascontiguousarray(pop.get("X"), dtype=float)]
+        if other is None:
+            seen = set()
+            for i, key in enumerate(keys):
+                if key in seen:
+                    is_duplicate[i] = True
+                seen.add(key)
+        else:
+            seen = {row.tobytes() for row in np.ascontiguousarray(other.get("X"), dtype=float)}
+            is_duplicate |= np.fromiter((k in seen for k in keys), dtype=bool, count=len(keys))
+        return is_duplicate
+
+
+def duplicate_check() -> SnappedDuplicates:
+    return SnappedDuplicates()
 
 
