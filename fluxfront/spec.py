@@ -80,9 +80,9 @@ class ModelOptions(_Section):
 
 
 class Search(_Section):
-    materials: Annotated[list[str], Field(min_length=1)] = ["all"]
-    shapes: Annotated[list[str], Field(min_length=1)] = ["all"]
-    wires: Annotated[list[str], Field(min_length=1)] = ["all"]
+    materials: Annotated[list[str], Field(min_length=1, default_factory=lambda: ["all"])]
+    shapes: Annotated[list[str], Field(min_length=1, default_factory=lambda: ["all"])]
+    wires: Annotated[list[str], Field(min_length=1, default_factory=lambda: ["all"])]
     stack_max: Annotated[int, Field(ge=1, le=3)] = 3
     turns_min: Annotated[int, Field(ge=1, le=2000)] = 5
     turns_max: Annotated[int, Field(ge=1, le=2000)] = 150
@@ -107,10 +107,10 @@ class Spec(_Section):
     operating_point: Annotated[list[OperatingPoint], Field(min_length=1, max_length=32)]
     limits: Limits
     thermal: Thermal
-    switching: Switching = Switching(enabled=False)
-    model: ModelOptions = ModelOptions()
-    search: Search = Search()
-    catalog: list[str] = []
+    switching: Switching = Field(default_factory=lambda: Switching(enabled=False))
+    model: ModelOptions = Field(default_factory=ModelOptions)
+    search: Search = Field(default_factory=Search)
+    catalog: list[str] = Field(default_factory=list)
 
     @model_validator(mode="after")
     def _physics(self):
