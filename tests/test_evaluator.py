@@ -48,10 +48,10 @@ def test_batch_equals_one_at_a_time_and_chunk_independent(demo_context, catalog,
     batch = evaluate(demo_context, d, chunk=128)
     whole = evaluate(demo_context, d, chunk=1000)
     np.testing.assert_array_equal(batch.objectives, whole.objectives)
-    for i in (0, 17, 299):
+    for i in range(0, 300, 7):   # bit for bit: re-evaluation, parallel backends and resume rely on it
         one = evaluate(demo_context, d.take(slice(i, i + 1)))
-        np.testing.assert_allclose(one.objectives[0], batch.objectives[i], rtol=1e-12)
-        np.testing.assert_allclose(one.constraints[0], batch.constraints[i], rtol=1e-12, atol=1e-12)
+        np.testing.assert_array_equal(one.objectives[0], batch.objectives[i])
+        np.testing.assert_array_equal(one.constraints[0], batch.constraints[i])
 
 
 def test_more_turns_less_core_loss(demo_context, catalog):
