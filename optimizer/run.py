@@ -311,9 +311,10 @@ def _attach_log(folder: RunFolder) -> None:
 
 
 def representatives(front: pd.DataFrame) -> dict[str, int]:
-    """Row numbers of the lightest, lowest-loss, cheapest and balanced (knee) designs."""
+    """Row numbers of the smallest, lightest, lowest-loss, cheapest and balanced (knee) designs."""
     F = front[["volume_cm3", "total_loss_w", "cost"]].to_numpy()
-    return {"smallest": int(np.argmin(F[:, 0])), "lowest loss": int(np.argmin(F[:, 1])),
+    return {"smallest": int(np.argmin(F[:, 0])), "lightest": int(np.argmin(front["mass_g"].to_numpy())),
+            "lowest loss": int(np.argmin(F[:, 1])),
             "cheapest": int(np.argmin(F[:, 2])), "balanced (knee)": knee_index(F)}
 
 
