@@ -86,7 +86,7 @@ def _settings(args):
                     stagnation=args.stagnation, jobs=args.jobs, scheduler=args.scheduler, keep_all=args.keep_all)
 
 
-def _finish(outcome, quiet) -> int:
+def _finish(outcome) -> int:
     from .cli import EXIT_NO_FEASIBLE
 
     print(outcome.summary)
@@ -104,7 +104,7 @@ def cmd_run(args) -> int:
     if out.exists():
         raise InputError(f"--out {out}: already exists; a run never writes over another (resume it with "
                          f"'fluxfront resume {out}')")
-    return _finish(start(spec, Path(args.spec), catalog, out, settings, quiet=args.quiet), args.quiet)
+    return _finish(start(spec, Path(args.spec), catalog, out, settings, quiet=args.quiet))
 
 
 def cmd_resume(args) -> int:
@@ -114,7 +114,7 @@ def cmd_resume(args) -> int:
     if not (run_dir / "checkpoint.pkl").is_file() or not (run_dir / "run.json").is_file():
         raise InputError(f"{run_dir}: not a run folder (expected run.json and checkpoint.pkl in it)")
     _positive("more-generations", args.more_generations)
-    return _finish(resume(run_dir, args.catalog, quiet=args.quiet, extra_generations=args.more_generations), args.quiet)
+    return _finish(resume(run_dir, args.catalog, quiet=args.quiet, extra_generations=args.more_generations))
 
 
 def cmd_demo(args) -> int:
@@ -130,7 +130,7 @@ def cmd_demo(args) -> int:
     print(f"fluxfront demo: the built-in 1.5 kW universal-input PFC scenario, {settings.generations} generations "
           f"of {settings.population} designs per material")
     outcome = start(spec, demo_spec_path(), catalog, out, settings, quiet=args.quiet)
-    code = _finish(outcome, args.quiet)
+    code = _finish(outcome)
     if outcome.front_size > 0:
         for path in write_plots(outcome.folder):
             print(f"plot: {path}")
