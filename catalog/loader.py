@@ -224,11 +224,13 @@ class Catalog:
 
     def compatible(self, material_index, shape_index) -> np.ndarray:
         """True where the material is made in the shape's family."""
-        fams = self.shape_arrays["family"][np.asarray(shape_index)]
-        allowed = [set(m.families) for m in self.materials.values()]
-        lut = {(i, f): f in allowed[i] for i in range(len(allowed)) for f in self.families}
-        return np.array([lut[(int(m), str(f))] for m, f in zip(np.ravel(material_index), np.ravel(fams))]
-                        ).reshape(np.shape(material_index))
+        return self._made_in[np.asarray(material_index), np.asarray(shape_index)]
+
+    @cached_property
+    def _made_in(self) -> np.ndarray:
+        """(n_materials, n_shapes): material made in the shape's family."""
+        fams = self.shape_arrays["family"]
+        return np.array([[f in m.families for f in fams] for m in self.materials.values()], dtype=bool)
 
     # ---- tables for people ----------------------------------------------------------------
     def material_table(self) -> pd.DataFrame:

@@ -229,8 +229,8 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
     sections.append(("Losses", [
         ("p", "Weighted over the operating points (the loss objective); per point in the specification table."),
         ("table", ["part", "loss [W]"], [
-            ["core, switching-frequency ripple", _fmt(f["core_loss_w"] - float(ev.per_op["core_line_loss_w"][0] @ spec.weights))],
-            ["core, line-frequency loop", _fmt(float(ev.per_op["core_line_loss_w"][0] @ spec.weights))],
+            ["core, switching-frequency ripple", _fmt(f["core_loss_w"] - f["core_line_loss_w"])],
+            ["core, line-frequency loop", _fmt(f["core_line_loss_w"])],
             ["winding, DC (line-frequency current)", _fmt(f["winding_dc_loss_w"])],
             ["winding, AC (ripple harmonics)", _fmt(f["winding_ac_loss_w"])],
             ["semiconductor switching (not in the inductor)", _fmt(f["switching_loss_w"])],

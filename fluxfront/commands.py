@@ -1,26 +1,56 @@
-"""Subcommands beyond the catalog: init, evaluate (and the search and results commands)."""
+"""The subcommands of ``fluxfront``: catalog, init, evaluate, run, resume, demo, plot, pick, flux-map, compare."""
 from __future__ import annotations
 
+import argparse
 import json
 import sys
 from pathlib import Path
 
+import pandas as pd
+
 from catalog import load_catalog
 
+from .buildsheet import PICK_RULES, write_pick
 from .designs import read_design_table, resolve_designs
 from .errors import InputError
 from .evaluator import evaluate, prepare
 from .files import write_atomic
 from .report import detail, evaluation_frame, summary_text
-from .buildsheet import PICK_RULES, write_pick
-from .spec import demo_spec_text, load_spec
+from .spec import catalog_folders, demo_spec_text, load_spec
+
+
+def catalog_arg(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--catalog", action="append", default=[], metavar="DIR",
+                   help="user catalog folder or file added over the built-in one (repeatable)")
+
+
+def _print_table(df: pd.DataFrame, as_json: bool) -> None:
+    if as_json:
+        clean = df.astype(object).where(df.notna(), None)  # NaN is not JSON; an absent value is null
+        print(json.dumps(clean.to_dict(orient="records"), indent=1, default=str))
+    else:
+        with pd.option_context("display.max_rows", None, "display.max_columns", None, "display.width", 200,
+                               "display.max_colwidth", 60):
+            print(df.to_string(index=False))
+
+
+def cmd_catalog(args) -> int:
+    if args.what == "check":
+        cat = load_catalog([args.path])
+        print(f"{args.path}: valid ({len(cat.materials)} materials, {len(cat.shapes)} shapes, "
+              f"{len(cat.wires)} wires after merging with the built-in catalog)")
+        return 0
+    cat = load_catalog(args.catalog)
+    table = {"materials": cat.material_table, "shapes": cat.shape_table, "wires": cat.wire_table}[args.what]()
+    _print_table(table, args.json)
+    return 0
 
 
 def load_problem(spec_path, extra_catalogs):
     """Spec and catalog for a command: the spec's own catalog entries first, then --catalog ones."""
     spec, spec_hash = load_spec(spec_path)
     base = Path(spec_path).parent
-    catalogs = [str((base / c)) for c in spec.catalog] + list(extra_catalogs)
+    catalogs = catalog_folders(spec, base, extra_catalogs)
     return spec, spec_hash, load_catalog(catalogs)
 
 
@@ -145,8 +175,6 @@ def cmd_demo(args) -> int:
 
 def load_run(run_dir, extra_catalogs=()):
     """Spec, catalog, evaluation context, front and history of a run folder."""
-    import pandas as pd
-
     run_dir = Path(run_dir)
     needed = ("run.json", "spec.toml", "pareto.csv")
     missing = [n for n in needed if not (run_dir / n).is_file()]
@@ -155,7 +183,7 @@ def load_run(run_dir, extra_catalogs=()):
     meta = json.loads((run_dir / "run.json").read_text())
     spec, _ = load_spec(run_dir / "spec.toml")
     base = Path(meta.get("spec_file", run_dir / "spec.toml")).parent
-    catalog = load_catalog([str(base / c) for c in spec.catalog] + list(extra_catalogs))
+    catalog = load_catalog(catalog_folders(spec, base, extra_catalogs))
     front = pd.read_csv(run_dir / "pareto.csv")
     history = pd.read_csv(run_dir / "history.csv") if (run_dir / "history.csv").is_file() else None
     return spec, catalog, prepare(spec, catalog), front, history
@@ -231,7 +259,6 @@ def cmd_flux_map(args) -> int:
 
 def cmd_compare(args) -> int:
     import numpy as np
-    import pandas as pd
 
     from optimizer.front import hypervolume
 
@@ -279,8 +306,23 @@ def _search_args(p) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar (batch jobs)")
 
 
-def register(sub, catalog_arg) -> None:
+def register(sub) -> None:
     """Add the subcommands to the parser ``sub``."""
+    p = sub.add_parser("catalog", help="list or check catalog data",
+                       description="List materials, shapes (with computed geometry) or wires, or check a user catalog.")
+    csub = p.add_subparsers(dest="what", required=True, metavar="WHAT")
+    for what, text in (("materials", "core materials by class"), ("shapes", "core shapes with le, Ae, Ve, window, mass"),
+                       ("wires", "round magnet wire and litz")):
+        q = csub.add_parser(what, help=f"list {text}", description=f"List {text}.")
+        q.add_argument("--json", action="store_true", help="print JSON records instead of a table")
+        catalog_arg(q)
+        q.set_defaults(func=cmd_catalog)
+    q = csub.add_parser("check", help="validate a user catalog file or folder",
+                        description="Validate a user catalog file or folder; exit 0 when valid, 2 otherwise.")
+    q.add_argument("path", help="catalog folder, or one of materials.toml, shapes.toml, wires.toml, costs.toml")
+    q.set_defaults(func=cmd_catalog)
+
+
     p = sub.add_parser("init", help="write the commented demo spec as a starting point",
                        description="Write the demo spec, commented field by field, to FILE.")
     p.add_argument("file", metavar="FILE")

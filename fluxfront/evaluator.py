@@ -385,6 +385,7 @@ def _evaluate_chunk(ctx: Context, d: Designs, keep_samples: bool) -> Evaluation:
         "saturation_ratio": sat_ratio.max(axis=1),
         "b_ripple_pp_max_t": per["db_max"].max(axis=1),
         "core_loss_w": _weighted(core, wts),
+        "core_line_loss_w": _weighted(core_line, wts),
         "winding_dc_loss_w": _weighted(wdc, wts),
         "winding_ac_loss_w": _weighted(wac, wts),
         "switching_loss_w": _weighted(sw, wts),

@@ -147,6 +147,11 @@ def load_spec(path) -> tuple[Spec, str]:
     return spec, hashlib.sha256(raw_bytes).hexdigest()
 
 
+def catalog_folders(spec: Spec, spec_dir, extra=()) -> list[str]:
+    """User catalogs of a run: the spec's ``catalog`` entries (relative to the spec's folder), then ``extra``."""
+    return [str(Path(spec_dir) / c) for c in spec.catalog] + [str(e) for e in extra]
+
+
 def demo_spec_text() -> str:
     """The commented demo spec shipped with the package."""
     return (resources.files("fluxfront") / "data" / "demo_spec.toml").read_text(encoding="utf-8")

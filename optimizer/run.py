@@ -279,7 +279,7 @@ def _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet) 
 def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generations: int | None = None) -> Outcome:
     """Continue a stopped or killed run from its last checkpoint."""
     from catalog import load_catalog
-    from fluxfront.spec import load_spec
+    from fluxfront.spec import catalog_folders, load_spec
 
     folder = RunFolder(run_dir)
     _attach_log(folder)
@@ -289,7 +289,7 @@ def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generation
         settings.generations = (settings.generations or 0) + extra_generations
     spec, _ = load_spec(folder.file("spec.toml"))
     base = Path(meta["spec_file"]).parent
-    catalog = load_catalog([str(base / c) for c in spec.catalog] + list(catalog_dirs))
+    catalog = load_catalog(catalog_folders(spec, base, catalog_dirs))
     used = folder.read_json("catalog.json")
     if used["catalog_sha256"] != catalog.content_hash():
         log.warning("the catalog differs from the one the run started with (hash %s)", used["catalog_sha256"])
