@@ -18,10 +18,10 @@ from pymoo.core.individual import Individual
 from pymoo.core.mixed import MixedVariableDuplicateElimination
 from pymoo.core.population import Population
 
-from catalog import load_catalog
-from fluxfront.spec import demo_spec_path, load_spec
-from optimizer.problem import duplicate_check
-from optimizer.space import DesignSpace
+from fluxfront.catalog import load_catalog
+from fluxfront.design.spec import demo_spec_path, load_spec
+from fluxfront.optimizer.problem import duplicate_check
+from fluxfront.optimizer.space import DesignSpace
 
 
 def main() -> None:

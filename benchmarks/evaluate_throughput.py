@@ -16,10 +16,10 @@ os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
 import numpy as np  # noqa: E402
 
-from catalog import load_catalog  # noqa: E402
-from fluxfront.evaluator import evaluate, prepare  # noqa: E402
-from fluxfront.spec import demo_spec_path, load_spec  # noqa: E402
-from optimizer.space import DesignSpace  # noqa: E402
+from fluxfront.catalog import load_catalog  # noqa: E402
+from fluxfront.design.evaluator import evaluate, prepare  # noqa: E402
+from fluxfront.design.spec import demo_spec_path, load_spec  # noqa: E402
+from fluxfront.optimizer.space import DesignSpace  # noqa: E402
 
 
 def main() -> None:

@@ -15,12 +15,12 @@ from pathlib import Path
 
 import numpy as np
 
-from catalog import load_catalog
-from fluxfront.evaluator import evaluate, prepare
-from fluxfront.spec import demo_spec_path, load_spec
-from optimizer.parallel import PopulationEvaluator
-from optimizer.run import Settings, start
-from optimizer.space import DesignSpace
+from fluxfront.catalog import load_catalog
+from fluxfront.design.evaluator import evaluate, prepare
+from fluxfront.design.spec import demo_spec_path, load_spec
+from fluxfront.optimizer.parallel import PopulationEvaluator
+from fluxfront.optimizer.run import Settings, start
+from fluxfront.optimizer.space import DesignSpace
 
 
 def main() -> None:

@@ -14,12 +14,12 @@ from pathlib import Path
 
 import pandas as pd
 
-from catalog import load_catalog
-from fluxfront.evaluator import evaluate, prepare
-from fluxfront.spec import demo_spec_path, load_spec
-from optimizer.front import hypervolume, non_dominated
-from optimizer.run import Settings, start
-from optimizer.space import DesignSpace
+from fluxfront.catalog import load_catalog
+from fluxfront.design.evaluator import evaluate, prepare
+from fluxfront.design.spec import demo_spec_path, load_spec
+from fluxfront.optimizer.front import hypervolume, non_dominated
+from fluxfront.optimizer.run import Settings, start
+from fluxfront.optimizer.space import DesignSpace
 
 SEARCH = """
 [search]

@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 from pydantic import BaseModel
 
-from models import geometry, winding
+from fluxfront.models import geometry, winding
 
 from .schema import Copper, Costs, Family, Litz, Material, RoundWireRule, Shape
 from .validation import validate_entry
@@ -34,7 +34,7 @@ class CatalogError(ValueError):
 
 
 def _builtin_dir() -> Path:
-    return Path(str(resources.files("catalog") / "data"))
+    return Path(str(resources.files("fluxfront.catalog") / "data"))
 
 
 def _read_toml(path: Path) -> dict:

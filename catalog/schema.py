@@ -9,7 +9,7 @@ from typing import Annotated, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
-from models.geometry import FAMILIES
+from fluxfront.models.geometry import FAMILIES
 
 
 def _between(lo, hi, unit=""):

@@ -1,0 +1,1 @@
+"""The search: the encoded design space, the multi-objective loop, parallel evaluation, run folders."""

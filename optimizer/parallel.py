@@ -10,11 +10,11 @@ from __future__ import annotations
 import contextlib
 
 import numpy as np
-from joblib import Parallel, delayed, parallel_config
+from joblib import Parallel, cpu_count, delayed, parallel_config
 
-from fluxfront.designs import Designs
+from fluxfront.design.designs import Designs
+from fluxfront.design.evaluator import Context, Evaluation, concat_evaluations, evaluate
 from fluxfront.errors import InputError
-from fluxfront.evaluator import Context, Evaluation, concat_evaluations, evaluate
 
 MIN_CHUNK = 2000  # about 40 ms of evaluation on one core: below that, process start-up and pickling dominate
 
@@ -42,7 +42,7 @@ class PopulationEvaluator:
 
     def __enter__(self):
         if self.scheduler is not None:
-            try:
+            try:  # Dask is an optional extra: imported only when a scheduler is asked for
                 from dask.distributed import Client, LocalCluster
             except ImportError:
                 raise InputError("--scheduler needs Dask: pip install 'fluxfront[cluster]'") from None
@@ -72,7 +72,6 @@ class PopulationEvaluator:
             return max(len(self._client.scheduler_info().get("workers", {})), 1)
         if self._parallel is None:
             return 1
-        from joblib import cpu_count
         return cpu_count() if self.jobs in (-1, None) else max(self.jobs, 1)
 
     def __call__(self, designs: Designs) -> Evaluation:

@@ -6,7 +6,7 @@ from pymoo.core.duplicate import DuplicateElimination
 from pymoo.core.problem import Problem
 from pymoo.core.repair import Repair
 
-from fluxfront.evaluator import CONSTRAINTS, OBJECTIVES
+from fluxfront.design.evaluator import CONSTRAINTS, OBJECTIVES
 
 from .space import N_VAR, DesignSpace
 

@@ -30,12 +30,13 @@ from pymoo.operators.crossover.sbx import SBX
 from pymoo.operators.mutation.pm import PM
 from pymoo.operators.sampling.rnd import FloatRandomSampling
 from pymoo.problems.static import StaticProblem
+from tqdm import tqdm
 
-from catalog import Catalog
-from fluxfront.designs import Designs
-from fluxfront.evaluator import CONSTRAINTS, Context, evaluate, prepare
-from fluxfront.report import evaluation_frame
-from fluxfront.spec import Spec
+from fluxfront.catalog import Catalog, load_catalog
+from fluxfront.design.designs import Designs
+from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate, prepare
+from fluxfront.design.spec import Spec, catalog_folders, load_spec
+from fluxfront.design.table import evaluation_frame
 
 from .front import ParetoArchive, hypervolume, knee_index
 from .parallel import MIN_CHUNK, PopulationEvaluator
@@ -177,8 +178,6 @@ def _one_generation(state: State, space: DesignSpace, evaluator: PopulationEvalu
 def _progress(quiet: bool, settings: Settings, state: State):
     if quiet:
         return None
-    from tqdm import tqdm
-
     total = settings.generations
     return tqdm(total=total, initial=state.generation, unit="gen", dynamic_ncols=True, leave=True)
 
@@ -278,9 +277,6 @@ def _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet) 
 
 def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generations: int | None = None) -> Outcome:
     """Continue a stopped or killed run from its last checkpoint."""
-    from catalog import load_catalog
-    from fluxfront.spec import catalog_folders, load_spec
-
     folder = RunFolder(run_dir)
     _attach_log(folder)
     meta = folder.read_json("run.json")

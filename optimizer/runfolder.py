@@ -14,6 +14,7 @@ Layout::
 """
 from __future__ import annotations
 
+import io
 import json
 import pickle
 import platform
@@ -23,7 +24,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from catalog import Catalog
+from fluxfront.catalog import Catalog
 from fluxfront.files import write_atomic
 
 from .space import DesignSpace
@@ -75,8 +76,6 @@ class RunFolder:
         write_atomic(self.file(name), frame.to_csv(index=False))
 
     def write_parquet(self, name: str, frame: pd.DataFrame) -> None:
-        import io
-
         buf = io.BytesIO()
         frame.to_parquet(buf, index=False)
         write_atomic(self.file(name), buf.getvalue())

@@ -30,10 +30,10 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from catalog import Catalog
-from fluxfront.designs import Designs
+from fluxfront.catalog import Catalog
+from fluxfront.design.designs import Designs
+from fluxfront.design.spec import Spec
 from fluxfront.errors import InputError
-from fluxfront.spec import Spec
 
 N_VAR = 7
 

@@ -1,9 +1,9 @@
 """Shared fixtures: the built-in catalog, the demo spec and its prepared evaluation context."""
 import pytest
 
-from catalog import load_catalog
-from fluxfront.evaluator import prepare
-from fluxfront.spec import demo_spec_path, load_spec
+from fluxfront.catalog import load_catalog
+from fluxfront.design.evaluator import prepare
+from fluxfront.design.spec import demo_spec_path, load_spec
 
 
 @pytest.fixture(scope="session")

@@ -3,8 +3,8 @@ import json
 
 import pytest
 
-from catalog import load_catalog
-from fluxfront.cli import main
+from fluxfront.catalog import load_catalog
+from fluxfront.cli.main import main
 
 REQUIRED_CLASSES = {"MnZn power ferrite", "Fe-based amorphous", "nanocrystalline", "Fe-Si-Al powder", "Fe-Ni powder",
                     "MoNi powder", "iron powder"}

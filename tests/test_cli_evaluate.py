@@ -4,8 +4,8 @@ import json
 import pandas as pd
 import pytest
 
-from fluxfront.cli import main
-from fluxfront.spec import demo_spec_path
+from fluxfront.cli.main import main
+from fluxfront.design.spec import demo_spec_path
 
 ROW = "mnzn_ferrite_100k,ETD49,1,40,3.0,litz175x38awg,1,65\n"
 HEADER = "material,shape,stack,turns,gap_mm,wire,parallel,f_sw_khz\n"

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from models import core_loss
+from fluxfront.models import core_loss
 
 K, ALPHA, BETA = 1.0, 1.5, 2.5  # the made-up Steinmetz set of shared/reference/methods.md section 1
 

@@ -5,10 +5,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from fluxfront.designs import resolve_designs
-from fluxfront.evaluator import evaluate
-from models import magnetics, waveforms
-from optimizer.space import DesignSpace
+from fluxfront.design.designs import resolve_designs
+from fluxfront.design.evaluator import evaluate
+from fluxfront.models import magnetics, waveforms
+from fluxfront.optimizer.space import DesignSpace
 
 FERRITE = dict(material="mnzn_ferrite_100k", shape="ETD49", stack=1, turns=40, gap_mm=3.0, wire="litz175x38awg",
                parallel=1, f_sw_khz=65)
@@ -90,7 +90,7 @@ def test_random_valid_designs_give_finite_numbers(seed, demo_context, catalog, d
 def test_reported_temperature_balances_loss_and_dissipation(demo_context, catalog):
     # heat balance at the result: natural convection + radiation from the boxed surface (Churchill-Chu,
     # the model under test in test_thermal.py) carries away exactly the inductor's own loss
-    from models import thermal
+    from fluxfront.models import thermal
 
     ev = _eval(demo_context, catalog, [FERRITE])
     spec = demo_context.spec
@@ -98,7 +98,7 @@ def test_reported_temperature_balances_loss_and_dissipation(demo_context, catalo
     surface = ev.per_op["temperature_c"][0] - spec.thermal.internal_rise_k
     geo_box = ev.figures["surface_cm2"][0] * 1e-4
     d = resolve_designs(pd.DataFrame([FERRITE]), catalog)
-    from models import geometry
+    from fluxfront.models import geometry
     size = geometry.boxed_size(catalog.core_geometry(d.shape, d.stack), ev.figures["layers"][0] *
                                catalog.wires["litz175x38awg"].outer_diameter)
     p, _ = thermal.natural_convection(surface - spec.limits.ambient_c, spec.limits.ambient_c, geo_box,

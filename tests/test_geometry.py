@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from models import geometry
+from fluxfront.models import geometry
 
 
 def test_ring_core_matches_iec_60205_check_value():

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from models import magnetics
+from fluxfront.models import magnetics
 
 # methods.md section 4: N=50, 10x10 mm leg, le 100 mm, mu_r 2000, lg 1 mm
 N, A, LE, MU, LG = 50, 1e-4, 0.1, 2000.0, 1e-3

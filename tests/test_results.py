@@ -7,11 +7,12 @@ import pandas as pd
 import pytest
 from scipy import optimize
 
-from fluxfront.buildsheet import KEY_FIGURES_ID, pick_rows
-from fluxfront.cli import main
-from fluxfront.fluxmap import crossover_frequency, flux_map, loss_limited_amplitude, saturation_ripple_amplitude
-from fluxfront.spec import demo_spec_path
-from optimizer.front import knee_index
+from fluxfront.cli.main import main
+from fluxfront.design.spec import demo_spec_path
+from fluxfront.optimizer.front import knee_index
+from fluxfront.results.fluxmap import crossover_frequency, flux_map, loss_limited_amplitude, saturation_ripple_amplitude
+from fluxfront.results.picking import pick_rows
+from fluxfront.results.render import KEY_FIGURES_ID
 
 SECTIONS = ["Specification", "Core and gap", "Winding", "Inductance and bench measurement", "Tolerances",
             "Over the line cycle", "Losses", "Cost", "Temperature, mass, volume", "Key figures", "Models and sources",

@@ -10,14 +10,14 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from catalog import load_catalog
-from fluxfront.cli import main
-from fluxfront.evaluator import evaluate, prepare
-from fluxfront.spec import demo_spec_path, load_spec
-from optimizer.front import hypervolume, non_dominated
-from optimizer.parallel import PopulationEvaluator
-from optimizer.run import Settings, start
-from optimizer.space import DesignSpace
+from fluxfront.catalog import load_catalog
+from fluxfront.cli.main import main
+from fluxfront.design.evaluator import evaluate, prepare
+from fluxfront.design.spec import demo_spec_path, load_spec
+from fluxfront.optimizer.front import hypervolume, non_dominated
+from fluxfront.optimizer.parallel import PopulationEvaluator
+from fluxfront.optimizer.run import Settings, start
+from fluxfront.optimizer.space import DesignSpace
 
 TINY_SEARCH = """
 [search]

@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from models import thermal
+from fluxfront.models import thermal
 
 
 def test_churchill_chu_check_value():

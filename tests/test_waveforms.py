@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from models import waveforms
+from fluxfront.models import waveforms
 
 # methods.md section 2: 1 kW, 90 Vrms, 400 V, 100 kHz, 500 uH, eta = 1
 P, VRMS, VOUT, FSW, L = 1000.0, 90.0, 400.0, 100e3, 500e-6

@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from models import winding
+from fluxfront.models import winding
 
 
 @pytest.mark.parametrize("x,values", [

@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from models import winding
+from fluxfront.models import winding
 
 # ASTM B258 nominal diameters in inches as the standard's table gives them, rounded to four
 # decimals (values from memory of that table); tolerance: half the last printed digit.

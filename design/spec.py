@@ -15,11 +15,11 @@ from typing import Annotated, Literal
 import numpy as np
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
-from catalog.validation import validate_entry
-from models.magnetics import FRINGING_MODELS
-from models.thermal import THERMAL_MODELS
-
-from .errors import InputError
+from fluxfront.catalog import Catalog, load_catalog
+from fluxfront.catalog.validation import validate_entry
+from fluxfront.errors import InputError
+from fluxfront.models.magnetics import FRINGING_MODELS
+from fluxfront.models.thermal import THERMAL_MODELS
 
 
 class _Section(BaseModel):
@@ -152,10 +152,17 @@ def catalog_folders(spec: Spec, spec_dir, extra=()) -> list[str]:
     return [str(Path(spec_dir) / c) for c in spec.catalog] + [str(e) for e in extra]
 
 
+def load_problem(spec_path, extra_catalogs=()) -> tuple[Spec, str, Catalog]:
+    """Spec, its hash and its catalog: the spec's own catalog folders first, then ``extra_catalogs``."""
+    spec, spec_hash = load_spec(spec_path)
+    catalogs = catalog_folders(spec, Path(spec_path).parent, extra_catalogs)
+    return spec, spec_hash, load_catalog(catalogs)
+
+
 def demo_spec_text() -> str:
     """The commented demo spec shipped with the package."""
-    return (resources.files("fluxfront") / "data" / "demo_spec.toml").read_text(encoding="utf-8")
+    return (resources.files("fluxfront.design") / "data" / "demo_spec.toml").read_text(encoding="utf-8")
 
 
 def demo_spec_path() -> Path:
-    return Path(str(resources.files("fluxfront") / "data" / "demo_spec.toml"))
+    return Path(str(resources.files("fluxfront.design") / "data" / "demo_spec.toml"))

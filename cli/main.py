@@ -1,19 +1,22 @@
 """The ``fluxfront`` command: one entry point, one subcommand per job.
 
 Exit codes: 0 done; 2 bad input (one line on stderr naming the field and the expected form);
-3 a search found no feasible design (the run folder is still written).
+3 a search found no feasible design (the run folder is still written); 130 interrupted.
 """
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 
-from catalog import CatalogError
+from fluxfront.catalog import CatalogError
+from fluxfront.errors import InputError
 
-from .errors import InputError
+from . import commands
 
 EXIT_BAD_INPUT = 2
-EXIT_NO_FEASIBLE = 3
+EXIT_NO_FEASIBLE = commands.EXIT_NO_FEASIBLE
+EXIT_INTERRUPTED = 130
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -22,8 +25,6 @@ def build_parser() -> argparse.ArgumentParser:
         description="Design the boost inductor of an active PFC front end: search material, core, turns, "
                     "gap, wire and switching frequency together for the volume-loss-cost Pareto front.")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
-
-    from . import commands  # every subcommand registers itself there
     commands.register(sub)
     return parser
 
@@ -38,10 +39,8 @@ def main(argv=None) -> int:
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("fluxfront: interrupted", file=sys.stderr)
-        return 130
+        return EXIT_INTERRUPTED
     except BrokenPipeError:  # output piped into a reader that stopped early (e.g. head): not an error
-        import os
-
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 0
 

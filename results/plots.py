@@ -5,6 +5,7 @@ Agg backend is used so that plots work on machines without a screen.
 """
 from __future__ import annotations
 
+import io
 from pathlib import Path
 
 import matplotlib
@@ -14,7 +15,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
-from .files import write_atomic  # noqa: E402
+from fluxfront.files import write_atomic  # noqa: E402
 
 AXIS = {"volume_cm3": "boxed volume [cm³]", "total_loss_w": "weighted total loss [W]", "cost": "cost [currency units]",
         "f_sw_khz": "switching frequency [kHz]"}
@@ -24,8 +25,6 @@ STYLE = {"figure.dpi": 110, "savefig.dpi": 150, "font.size": 10, "axes.grid": Tr
 
 def save(fig, folder, name: str) -> list[Path]:
     """Write ``fig`` to ``folder/name.png`` and ``.svg`` (atomically); returns the paths."""
-    import io
-
     folder = Path(folder)
     paths = []
     for ext in ("png", "svg"):

@@ -1,83 +1,27 @@
-"""Picking designs from a front, and the prototype build sheet (self-contained HTML and Markdown).
+"""The prototype build sheet of one design (self-contained HTML and Markdown).
 
 The sheet is assembled as a list of sections made of blocks (paragraphs, tables, lists, figures)
-and rendered twice: HTML with the figures embedded as data URIs (opens offline, no links out),
-and Markdown with the figures as PNG files beside it.  Every number on it comes from the same
+and rendered twice by ``render.py``: self-contained HTML, and Markdown with PNG files beside it.  Every number on it comes from the same
 evaluation as ``fluxfront evaluate`` of the design.
 """
 from __future__ import annotations
 
-import base64
-import html
-import io
-import json
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from catalog import Catalog
-from models import magnetics
+from fluxfront.catalog import Catalog
+from fluxfront.design.designs import DESIGN_COLUMNS, resolve_designs
+from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate, prepare
+from fluxfront.design.table import evaluation_frame
+from fluxfront.files import write_atomic
+from fluxfront.models import magnetics
 
 from . import plots
-from .designs import DESIGN_COLUMNS, resolve_designs
-from .errors import InputError
-from .evaluator import CONSTRAINTS, Context, evaluate, prepare
-from .files import write_atomic
-from .report import SAFETY_NOTE, evaluation_frame
-
-PICK_RULES = ("knee", "volume", "loss", "cost")
-KEY_FIGURES_ID = "key-figures"
-
-
-# ---- picking ---------------------------------------------------------------------------------
-def pick_rows(front: pd.DataFrame, row=None, knee=False, max_volume_cm3=None, max_loss_w=None, max_cost=None,
-              by="knee") -> list[int]:
-    """Row numbers of the front chosen by row, by knee, or by limits then the rule ``by``.
-
-    ``by``: knee (balanced, see optimizer.front.knee_index), volume, loss or cost (smallest).
-    """
-    from optimizer.front import knee_index
-
-    if len(front) == 0:
-        raise InputError("pareto.csv: the front is empty; there is nothing to pick (the run found no feasible design)")
-    if row is not None:
-        if not 0 <= row < len(front):
-            raise InputError(f"--row = {row}: expected a row number from 0 to {len(front) - 1}")
-        return [row]
-    objectives = front[["volume_cm3", "total_loss_w", "cost"]].to_numpy()
-    if knee:
-        return [knee_index(objectives)]
-    ok = np.ones(len(front), dtype=bool)
-    for col, lim in (("volume_cm3", max_volume_cm3), ("total_loss_w", max_loss_w), ("cost", max_cost)):
-        if lim is not None:
-            ok &= front[col].to_numpy() <= lim
-    if not ok.any():
-        raise InputError("no design on the front meets the limits; the front spans volume "
-                         f"{front.volume_cm3.min():.1f}-{front.volume_cm3.max():.1f} cm3, loss "
-                         f"{front.total_loss_w.min():.2f}-{front.total_loss_w.max():.2f} W, cost "
-                         f"{front.cost.min():.2f}-{front.cost.max():.2f}")
-    idx = np.nonzero(ok)[0]
-    if by == "knee":
-        return [int(idx[knee_index(objectives[idx])])]
-    col = {"volume": 0, "loss": 1, "cost": 2}[by]
-    return [int(idx[np.argmin(objectives[idx, col])])]
-
-
-# ---- the sheet's content ----------------------------------------------------------------------
-@dataclass
-class Figure:
-    name: str
-    png: bytes
-    caption: str
-
-
-def _figure(fig, name, caption) -> Figure:
-    buf = io.BytesIO()
-    fig.savefig(buf, format="png", bbox_inches="tight", dpi=110)
-    plots.plt.close(fig)
-    return Figure(name, buf.getvalue(), caption)
+from .render import figure_png, render_html, render_markdown
+from .report import SAFETY_NOTE
 
 
 def _fmt(x, digits=4):
@@ -113,22 +57,40 @@ def _tolerance_rows(ctx: Context, design_row: pd.DataFrame, distributed: bool) -
     return rows
 
 
-def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
-    """Sections of the build sheet for one design (a one-row frame of design columns)."""
+@dataclass(frozen=True)
+class _Sheet:
+    """One design evaluated for its sheet, with the catalog entries it names."""
+
+    ctx: Context
+    design_row: pd.DataFrame
+    ev: object          # Evaluation with line-cycle samples
+    table: pd.Series    # its row of the result table
+    f: dict             # key figures of the design
+    d: pd.Series        # its design columns
+    mat: object
+    shape: object
+    fam: object
+    geo: object
+    distributed: bool
+
+
+def _evaluated(ctx: Context, design_row: pd.DataFrame) -> _Sheet:
     cat: Catalog = ctx.catalog
     designs = resolve_designs(design_row, cat)
     ev = evaluate(ctx, designs, keep_samples=True)
-    table = evaluation_frame(ev, cat).iloc[0]
-    f = {k: v[0] for k, v in ev.figures.items()}
     d = design_row.iloc[0]
     mat = cat.materials[d["material"]]
     shape = cat.shapes[d["shape"]]
-    fam = cat.families[shape.family]
-    geo = cat.core_geometry(designs.shape, designs.stack)
-    spec = ctx.spec
-    distributed = mat.gap_kind == "distributed"
-    sections = []
+    return _Sheet(ctx, design_row, ev, evaluation_frame(ev, cat).iloc[0], {k: v[0] for k, v in ev.figures.items()}, d,
+                  mat, shape, cat.families[shape.family], cat.core_geometry(designs.shape, designs.stack),
+                  mat.gap_kind == "distributed")
 
+
+def _specification(s: _Sheet) -> list:
+    """The spec and the results per operating point."""
+    ctx, ev = s.ctx, s.ev
+    spec = s.ctx.spec
+    sections = []
     sections.append(("Specification", [
         ("p", f"Boost PFC inductor for {spec.converter.power_w:g} W output, {spec.converter.bus_v:g} V bus, "
               f"{spec.converter.line_hz:g} Hz mains, efficiency estimate {spec.converter.efficiency:g}; air at "
@@ -141,6 +103,13 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
            _fmt(ev.per_op["i_peak_a"][0, j]), _fmt(ev.per_op["b_peak_t"][0, j])] for j, op in enumerate(ctx.ops)]),
     ]))
 
+    return sections
+
+
+def _core_and_gap(s: _Sheet) -> list:
+    """Core set, material and how to make the gap."""
+    f, d, mat, shape, fam, geo, distributed = s.f, s.d, s.mat, s.shape, s.fam, s.geo, s.distributed
+    sections = []
     gap = float(d["gap_mm"])
     if distributed:
         gap_text = "No discrete gap: the powder material carries its gap distributed in the core."
@@ -164,6 +133,14 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
         ("p", gap_text),
     ]))
 
+    return sections
+
+
+def _winding(s: _Sheet) -> list:
+    """Wire, turns and layers."""
+    f, d, fam = s.f, s.d, s.fam
+    cat = s.ctx.catalog
+    sections = []
     wire = cat.wires[d["wire"]]
     sections.append(("Winding", [
         ("table", ["item", "value"], [
@@ -183,11 +160,18 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
               "model assumes full layers) and insulate layer to layer as the safety standard requires."),
     ]))
 
+    return sections
+
+
+def _inductance(s: _Sheet) -> list:
+    """Inductance against current and what to expect on the bench."""
+    f, d, mat, geo, distributed = s.f, s.d, s.mat, s.geo, s.distributed
+    sections = []
     n, le = float(d["turns"]), geo.le[0]
     i_axis = np.linspace(0, 1.3 * f["i_peak_a"], 120)
     frac = magnetics.powder_permeability_fraction(n * i_axis / le, mat.rolloff_a or 1.0, mat.rolloff_b or 0.0,
                                                   mat.rolloff_c or 1.0)
-    fig_l = _figure(plots.inductance_curve(i_axis, f["inductance_uh"] * frac, f["i_peak_a"]), "inductance_curve",
+    fig_l = figure_png(plots.inductance_curve(i_axis, f["inductance_uh"] * frac, f["i_peak_a"]), "inductance_curve",
                     "Incremental inductance against DC current" + (
                         "" if distributed else " (gapped core: flat until the core nears saturation, which this "
                                                "linear model does not show; the limit is the peak-flux check)"))
@@ -211,21 +195,43 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
         ("img", fig_l),
     ]))
 
+    return sections
+
+
+def _tolerances(s: _Sheet) -> list:
+    """The gap (or permeability) off nominal."""
+    ctx, distributed = s.ctx, s.distributed
+    sections = []
     sections.append(("Tolerances", [
         ("p", "How a ±10 % error of the " + ("permeability" if distributed else "gap") +
               " moves the inductance, the peak flux and the ripple (re-evaluated with the same models):"),
         ("table", ["case", "inductance [µH]", "peak flux [T]", "largest ripple [A]", "still feasible"],
-         _tolerance_rows(ctx, design_row, distributed)),
+         _tolerance_rows(ctx, s.design_row, distributed)),
     ]))
 
+    return sections
+
+
+def _line_cycle(s: _Sheet) -> list:
+    """Line-cycle figures per operating point."""
+    ctx, ev = s.ctx, s.ev
+    spec = s.ctx.spec
+    sections = []
     figs = []
     for j, op in enumerate(ctx.ops):
         samples = {k: v[0] for k, v in ev.samples[j].items()}
         limit = spec.limits.saturation_margin * ev.per_op["b_sat_t"][0, j]
-        figs.append(("img", _figure(plots.line_cycle(samples, op.name, limit), f"line_cycle_{j + 1}",
+        figs.append(("img", figure_png(plots.line_cycle(samples, op.name, limit), f"line_cycle_{j + 1}",
                                     f"Over the half line cycle at '{op.name}'")))
     sections.append(("Over the line cycle", figs))
 
+    return sections
+
+
+def _results(s: _Sheet) -> list:
+    """Losses, cost, temperature, mass and volume."""
+    f = s.f
+    sections = []
     sections.append(("Losses", [
         ("p", "Weighted over the operating points (the loss objective); per point in the specification table."),
         ("table", ["part", "loss [W]"], [
@@ -253,7 +259,15 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
             ["outer surface", f"{_fmt(f['surface_cm2'])} cm²"],
         ]),
     ]))
-    sections.append(("Key figures", [("keytable", [[k, table[k]] for k in table.index])]))
+    return sections
+
+
+def _about(s: _Sheet) -> list:
+    """Key figures, models, assumptions and the cautions."""
+    f = s.f
+    spec = s.ctx.spec
+    sections = []
+    sections.append(("Key figures", [("keytable", [[k, s.table[k]] for k in s.table.index])]))
     sections.append(("Models and sources", [("ul", [
         "Line-cycle waveforms of an ideal CCM boost PFC: Fundamentals of Power Electronics, 3rd ed., Springer 2020.",
         "Effective core parameters: IEC 60205; shape sizes after IEC 62317 naming.",
@@ -281,72 +295,16 @@ def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
         "Insulation system, creepage and clearance between winding, core and chassis follow the applicable safety "
         "standard of the product; defer to local codes and licensed practice.",
     ])]))
-    return title, sections, table
+    return sections
 
 
-# ---- rendering --------------------------------------------------------------------------------
-CSS = """body{font-family:sans-serif;max-width:60em;margin:2em auto;padding:0 1em;color:#222;line-height:1.45}
-table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #bbb;padding:.25em .6em;text-align:left}
-th{background:#eee}img{max-width:100%}h2{border-bottom:2px solid #ccc;margin-top:1.6em}
-figcaption{font-size:.9em;color:#555}.caution{background:#fff4e5;border-left:4px solid #e69500;padding:.5em 1em}"""
+SECTIONS = (_specification, _core_and_gap, _winding, _inductance, _tolerances, _line_cycle, _results, _about)
 
 
-def render_html(title: str, sections) -> str:
-    out = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{html.escape(title)}</title>"
-           f"<style>{CSS}</style></head><body><h1>{html.escape(title)}</h1>"
-           f"<p class='caution'>{html.escape(SAFETY_NOTE)}</p>"]
-    for name, blocks in sections:
-        out.append(f"<section><h2>{html.escape(name)}</h2>")
-        for block in blocks:
-            kind = block[0]
-            if kind == "p":
-                out.append(f"<p>{html.escape(block[1])}</p>")
-            elif kind == "ul":
-                out.append("<ul>" + "".join(f"<li>{html.escape(x)}</li>" for x in block[1]) + "</ul>")
-            elif kind == "table":
-                out.append("<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in block[1]) + "</tr>")
-                out.extend("<tr>" + "".join(f"<td>{html.escape(str(c))}</td>" for c in r) + "</tr>" for r in block[2])
-                out.append("</table>")
-            elif kind == "keytable":
-                out.append(f"<table id='{KEY_FIGURES_ID}'><tr><th>column</th><th>value</th></tr>")
-                out.extend(f"<tr><td>{html.escape(k)}</td><td>{html.escape(json.dumps(v if not isinstance(v, np.generic) else v.item()))}</td></tr>"
-                           for k, v in block[1])
-                out.append("</table>")
-            elif kind == "img":
-                fig = block[1]
-                data = base64.b64encode(fig.png).decode()
-                out.append(f"<figure><img alt='{html.escape(fig.caption)}' src='data:image/png;base64,{data}'>"
-                           f"<figcaption>{html.escape(fig.caption)}</figcaption></figure>")
-        out.append("</section>")
-    out.append("</body></html>")
-    return "\n".join(out)
-
-
-def render_markdown(title: str, sections) -> tuple[str, list]:
-    out, files = [f"# {title}", "", f"> {SAFETY_NOTE}", ""], []
-
-    def cell(x):
-        return str(x).replace("|", "/")
-
-    for name, blocks in sections:
-        out += [f"## {name}", ""]
-        for block in blocks:
-            kind = block[0]
-            if kind == "p":
-                out += [block[1], ""]
-            elif kind == "ul":
-                out += [f"- {x}" for x in block[1]] + [""]
-            elif kind in ("table", "keytable"):
-                head, rows = (block[1], block[2]) if kind == "table" else (["column", "value"], block[1])
-                out.append("| " + " | ".join(head) + " |")
-                out.append("|" + "---|" * len(head))
-                out += ["| " + " | ".join(cell(c) for c in r) + " |" for r in rows]
-                out.append("")
-            elif kind == "img":
-                fig = block[1]
-                files.append(fig)
-                out += [f"![{fig.caption}]({fig.name}.png)", ""]
-    return "\n".join(out), files
+def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
+    """Sections of the build sheet for one design (a one-row frame of design columns)."""
+    sheet = _evaluated(ctx, design_row)
+    return title, [section for make in SECTIONS for section in make(sheet)], sheet.table
 
 
 def write_pick(run_dir: Path, ctx: Context, front: pd.DataFrame, row: int) -> Path:

@@ -9,13 +9,17 @@ loss, not saturation, limits the design.
 """
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 
-from catalog import Catalog
-from models import core_loss, magnetics
+from fluxfront.catalog import Catalog
+from fluxfront.design.spec import Spec
+from fluxfront.files import write_atomic
+from fluxfront.models import core_loss, magnetics
 
-from .spec import Spec
+from . import plots
 
 
 def _material_ids(spec: Spec, catalog: Catalog) -> list[str]:
@@ -95,3 +99,27 @@ def flux_map(spec: Spec, catalog: Catalog, loss_densities_mw_cm3, points: int = 
             summary.append({"material": mid, "class": cls, "loss_density_mw_cm3": pv, "b_saturation_mt": b_sat * 1e3,
                             "crossover_khz": fx / 1e3})
     return pd.concat(curves, ignore_index=True), pd.DataFrame(summary)
+
+
+def write_flux_map(spec: Spec, catalog: Catalog, loss_densities_mw_cm3, out) -> tuple[pd.DataFrame, list[Path]]:
+    """Flux-map figure and its two tables in ``out``; returns the crossover table and the files."""
+    curves, summary = flux_map(spec, catalog, loss_densities_mw_cm3)
+    out = Path(out)
+    paths = plots.save(plots.flux_map_figure(curves, summary), out, "flux_map")
+    paths.append(write_atomic(out / "flux_map_curves.csv", curves.to_csv(index=False)))
+    paths.append(write_atomic(out / "flux_map_crossover.csv", summary.to_csv(index=False)))
+    return summary, paths
+
+
+def crossover_lines(spec: Spec, summary: pd.DataFrame) -> list[str]:
+    """One line per material and loss density: where the loss, not saturation, limits the ripple flux."""
+    lo, hi = spec.search.f_sw_khz_min, spec.search.f_sw_khz_max
+    lines = ["Frequency above which core loss, not saturation, limits the ripple flux "
+             f"(searched range {lo:g}-{hi:g} kHz):"]
+    for _, r in summary.iterrows():
+        fx = r.crossover_khz
+        where = (f"above {fx:.0f} kHz" if lo < fx < hi else
+                 "loss-limited over the whole range" if fx <= lo else "saturation-limited over the whole range")
+        lines.append(f"  {r.material:22s} ({r['class']}), {r.loss_density_mw_cm3:g} mW/cm3: {where} "
+                     f"(saturation allows {r.b_saturation_mt:.0f} mT ripple amplitude)")
+    return lines

@@ -1,22 +1,33 @@
-"""The subcommands of ``fluxfront``: catalog, init, evaluate, run, resume, demo, plot, pick, flux-map, compare."""
+"""The subcommands of ``fluxfront``: their arguments and a thin handler each.
+
+A handler checks its options, calls one function of the layers below, prints what it returns and
+leaves errors to ``main`` (which maps them to exit codes). Nothing here computes a result.
+"""
 from __future__ import annotations
 
 import argparse
 import json
 import sys
+from datetime import datetime
 from pathlib import Path
 
 import pandas as pd
 
-from catalog import load_catalog
+from fluxfront.catalog import load_catalog
+from fluxfront.design.designs import read_design_table, resolve_designs
+from fluxfront.design.evaluator import evaluate, prepare
+from fluxfront.design.spec import demo_spec_path, demo_spec_text, load_problem
+from fluxfront.design.table import evaluation_frame
+from fluxfront.errors import InputError
+from fluxfront.files import write_atomic
+from fluxfront.optimizer.run import Outcome, Settings, resume, start
+from fluxfront.results.buildsheet import write_pick
+from fluxfront.results.fluxmap import crossover_lines, write_flux_map
+from fluxfront.results.picking import PICK_RULES, pick_rows
+from fluxfront.results.report import detail, summary_text
+from fluxfront.results.runs import compare_runs, load_run, write_knee_sheet, write_plots
 
-from .buildsheet import PICK_RULES, write_pick
-from .designs import read_design_table, resolve_designs
-from .errors import InputError
-from .evaluator import evaluate, prepare
-from .files import write_atomic
-from .report import detail, evaluation_frame, summary_text
-from .spec import catalog_folders, demo_spec_text, load_spec
+EXIT_NO_FEASIBLE = 3   # a search found no feasible design (the run folder is still written)
 
 
 def catalog_arg(p: argparse.ArgumentParser) -> None:
@@ -46,14 +57,6 @@ def cmd_catalog(args) -> int:
     return 0
 
 
-def load_problem(spec_path, extra_catalogs):
-    """Spec and catalog for a command: the spec's own catalog entries first, then --catalog ones."""
-    spec, spec_hash = load_spec(spec_path)
-    base = Path(spec_path).parent
-    catalogs = catalog_folders(spec, base, extra_catalogs)
-    return spec, spec_hash, load_catalog(catalogs)
-
-
 def cmd_init(args) -> int:
     path = Path(args.file)
     if path.exists() and not args.force:
@@ -69,10 +72,10 @@ def cmd_evaluate(args) -> int:
     designs = resolve_designs(table, catalog, source=str(args.designs))
     ctx = prepare(spec, catalog)
     one = len(designs) == 1
+    if args.json and not one:
+        raise InputError(f"{args.designs}: --json prints one design; the file holds {len(designs)} rows")
     ev = evaluate(ctx, designs, keep_samples=one and args.json)
     if args.json:
-        if not one:
-            raise InputError(f"{args.designs}: --json prints one design; the file holds {len(designs)} rows")
         text = json.dumps(detail(ctx, ev), indent=1, allow_nan=True)
         if args.out:
             write_atomic(args.out, text + "\n")
@@ -91,8 +94,6 @@ def cmd_evaluate(args) -> int:
 
 
 def _default_run_dir(spec_path) -> Path:
-    from datetime import datetime
-
     stamp = datetime.now().strftime("%Y%m%d-%H%M%S")
     return Path("runs") / f"{Path(spec_path).stem}-{stamp}"
 
@@ -102,9 +103,7 @@ def _positive(name, value, integer=True):
         raise InputError(f"--{name} = {value}: expected a positive {'whole number' if integer else 'number'}")
 
 
-def _settings(args):
-    from optimizer.run import Settings
-
+def _settings(args) -> Settings:
     _positive("population", args.population)
     _positive("generations", args.generations)
     _positive("hours", args.hours, integer=False)
@@ -116,9 +115,7 @@ def _settings(args):
                     stagnation=args.stagnation, jobs=args.jobs, scheduler=args.scheduler, keep_all=args.keep_all)
 
 
-def _finish(outcome) -> int:
-    from .cli import EXIT_NO_FEASIBLE
-
+def _finish(outcome: Outcome) -> int:
     print(outcome.summary)
     print(f"stopped: {outcome.stop_reason}")
     print(f"run folder: {outcome.folder}")
@@ -126,8 +123,6 @@ def _finish(outcome) -> int:
 
 
 def cmd_run(args) -> int:
-    from optimizer.run import start
-
     settings = _settings(args)
     spec, _, catalog = load_problem(args.spec, args.catalog)
     out = Path(args.out) if args.out else _default_run_dir(args.spec)
@@ -138,8 +133,6 @@ def cmd_run(args) -> int:
 
 
 def cmd_resume(args) -> int:
-    from optimizer.run import resume
-
     run_dir = Path(args.run_dir)
     if not (run_dir / "checkpoint.pkl").is_file() or not (run_dir / "run.json").is_file():
         raise InputError(f"{run_dir}: not a run folder (expected run.json and checkpoint.pkl in it)")
@@ -148,10 +141,6 @@ def cmd_resume(args) -> int:
 
 
 def cmd_demo(args) -> int:
-    from optimizer.run import Settings, start
-
-    from .spec import demo_spec_path
-
     spec, _, catalog = load_problem(demo_spec_path(), [])
     out = Path(args.out) if args.out else _default_run_dir("demo")
     if out.exists():
@@ -164,47 +153,9 @@ def cmd_demo(args) -> int:
     if outcome.front_size > 0:
         for path in write_plots(outcome.folder):
             print(f"plot: {path}")
-        ctx, front = load_run(outcome.folder)[2:4]
-        from optimizer.front import knee_index
-
-        knee = knee_index(front[["volume_cm3", "total_loss_w", "cost"]].to_numpy())
-        folder = write_pick(outcome.folder, ctx, front, knee)
+        folder = write_knee_sheet(outcome.folder)
         print(f"build sheet of the balanced design: {folder / 'build_sheet.html'} (and build_sheet.md)")
     return code
-
-
-def load_run(run_dir, extra_catalogs=()):
-    """Spec, catalog, evaluation context, front and history of a run folder."""
-    run_dir = Path(run_dir)
-    needed = ("run.json", "spec.toml", "pareto.csv")
-    missing = [n for n in needed if not (run_dir / n).is_file()]
-    if missing:
-        raise InputError(f"{run_dir}: not a run folder (missing {missing[0]}; expected {', '.join(needed)})")
-    meta = json.loads((run_dir / "run.json").read_text())
-    spec, _ = load_spec(run_dir / "spec.toml")
-    base = Path(meta.get("spec_file", run_dir / "spec.toml")).parent
-    catalog = load_catalog(catalog_folders(spec, base, extra_catalogs))
-    front = pd.read_csv(run_dir / "pareto.csv")
-    history = pd.read_csv(run_dir / "history.csv") if (run_dir / "history.csv").is_file() else None
-    return spec, catalog, prepare(spec, catalog), front, history
-
-
-def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
-    from optimizer.front import knee_index
-
-    from . import plots
-
-    spec, catalog, ctx, front, history = load_run(run_dir, extra_catalogs)
-    out = Path(run_dir) / "plots"
-    paths = []
-    if len(front):
-        knee = knee_index(front[["volume_cm3", "total_loss_w", "cost"]].to_numpy())
-        paths += plots.save(plots.front_volume_loss(front, catalog, knee), out, "front_volume_loss")
-        paths += plots.save(plots.pairwise(front, catalog), out, "front_pairs")
-        paths += plots.save(plots.frequency_along_front(front, catalog), out, "front_frequency")
-    if history is not None and len(history):
-        paths += plots.save(plots.progress(history), out, "progress")
-    return paths
 
 
 def cmd_plot(args) -> int:
@@ -217,8 +168,6 @@ def cmd_plot(args) -> int:
 
 
 def cmd_pick(args) -> int:
-    from .buildsheet import pick_rows
-
     for name in ("max_volume_cm3", "max_loss_w", "max_cost"):
         _positive(name.replace("_", "-"), getattr(args, name), integer=False)
     spec, catalog, ctx, front, _ = load_run(args.run_dir, args.catalog)
@@ -233,57 +182,19 @@ def cmd_pick(args) -> int:
 
 
 def cmd_flux_map(args) -> int:
-    from . import plots
-    from .fluxmap import flux_map
-
     for v in args.loss_density:
         _positive("loss-density", v, integer=False)
     spec, _, catalog = load_problem(args.spec, args.catalog)
-    curves, summary = flux_map(spec, catalog, args.loss_density)
     out = Path(args.out) if args.out else Path("runs") / f"{Path(args.spec).stem}-flux-map"
-    paths = plots.save(plots.flux_map_figure(curves, summary), out, "flux_map")
-    write_atomic(out / "flux_map_curves.csv", curves.to_csv(index=False))
-    write_atomic(out / "flux_map_crossover.csv", summary.to_csv(index=False))
-    lo, hi = spec.search.f_sw_khz_min, spec.search.f_sw_khz_max
-    print("Frequency above which core loss, not saturation, limits the ripple flux "
-          f"(searched range {lo:g}-{hi:g} kHz):")
-    for _, r in summary.iterrows():
-        fx = r.crossover_khz
-        where = (f"above {fx:.0f} kHz" if lo < fx < hi else
-                 "loss-limited over the whole range" if fx <= lo else "saturation-limited over the whole range")
-        print(f"  {r.material:22s} ({r['class']}), {r.loss_density_mw_cm3:g} mW/cm3: {where} "
-              f"(saturation allows {r.b_saturation_mt:.0f} mT ripple amplitude)")
+    summary, paths = write_flux_map(spec, catalog, args.loss_density, out)
+    print("\n".join(crossover_lines(spec, summary)))
     print(f"wrote {paths[0]}, {out / 'flux_map_crossover.csv'}")
     return 0
 
 
 def cmd_compare(args) -> int:
-    import numpy as np
-
-    from optimizer.front import hypervolume
-
-    from . import plots
-
-    if len(args.runs) < 2:
-        raise InputError("compare: expected at least two run folders")
-    fronts = {}
-    for run in args.runs:
-        path = Path(run) / "pareto.csv"
-        if not path.is_file():
-            raise InputError(f"{run}: not a run folder (no pareto.csv)")
-        label = Path(run).name
-        if label in fronts:                      # two runs with the same folder name: tell them apart
-            label = f"{label} ({len(fronts) + 1})"
-        fronts[label] = pd.read_csv(path)
-    cols = ["volume_cm3", "total_loss_w", "cost"]
-    stacked = np.vstack([f[cols].to_numpy() for f in fronts.values() if len(f)])
-    reference = 1.1 * stacked.max(axis=0)
-    table = pd.DataFrame([{"run": k, "front_size": len(f), "hypervolume": hypervolume(f[cols].to_numpy(), reference),
-                           "min_volume_cm3": f.volume_cm3.min(), "min_loss_w": f.total_loss_w.min(),
-                           "min_cost": f.cost.min()} for k, f in fronts.items()])
     out = Path(args.out) if args.out else Path("runs") / "compare"
-    paths = plots.save(plots.compare_fronts(fronts), out, "compare_fronts")
-    write_atomic(out / "compare.csv", table.to_csv(index=False))
+    table, reference, paths = compare_runs(args.runs, out)
     print(f"common reference point: volume {reference[0]:.1f} cm3, loss {reference[1]:.2f} W, cost {reference[2]:.2f}")
     print(table.to_string(index=False))
     print(f"wrote {paths[0]} and {out / 'compare.csv'}")
@@ -306,8 +217,8 @@ def _search_args(p) -> None:
     p.add_argument("--quiet", action="store_true", help="no progress bar (batch jobs)")
 
 
-def register(sub) -> None:
-    """Add the subcommands to the parser ``sub``."""
+def _register_catalog(sub) -> None:
+    """The catalog listing and check."""
     p = sub.add_parser("catalog", help="list or check catalog data",
                        description="List materials, shapes (with computed geometry) or wires, or check a user catalog.")
     csub = p.add_subparsers(dest="what", required=True, metavar="WHAT")
@@ -323,6 +234,8 @@ def register(sub) -> None:
     q.set_defaults(func=cmd_catalog)
 
 
+def _register_design(sub) -> None:
+    """Spec, evaluation and material comparison before a search."""
     p = sub.add_parser("init", help="write the commented demo spec as a starting point",
                        description="Write the demo spec, commented field by field, to FILE.")
     p.add_argument("file", metavar="FILE")
@@ -340,6 +253,19 @@ def register(sub) -> None:
     catalog_arg(p)
     p.set_defaults(func=cmd_evaluate)
 
+    p = sub.add_parser("flux-map", help="compare materials: loss-limited against saturation-limited ripple flux",
+                       description="For every allowed material, the largest ripple flux amplitude that keeps the core "
+                                   "loss density at a limit, against frequency, beside what saturation allows.")
+    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("--loss-density", type=float, nargs="+", default=[100.0, 300.0], metavar="MW_PER_CM3",
+                   help="core loss density limits in mW/cm3 (default 100 300)")
+    p.add_argument("--out", metavar="DIR", help="output folder (default runs/<spec>-flux-map)")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_flux_map)
+
+
+def _register_search(sub) -> None:
+    """Searching: run, resume, demo."""
     p = sub.add_parser("run", help="search the design space for the volume-loss-cost Pareto front",
                        description="Multi-objective search (NSGA-II) over material, core, stack, turns, gap, wire, "
                                    "parallel wires and switching frequency; writes a run folder.")
@@ -357,6 +283,20 @@ def register(sub) -> None:
     catalog_arg(p)
     p.set_defaults(func=cmd_resume)
 
+    p = sub.add_parser("demo", help="run the built-in scenario end to end (about two minutes)",
+                       description="Search the built-in demo scenario, write a run folder, plots and the build "
+                                   "sheet of the balanced design, and print where they are.")
+    p.add_argument("--out", metavar="DIR", help="run folder (default runs/demo-<time>)")
+    p.add_argument("--seed", type=int, default=1)
+    p.add_argument("--generations", type=int, default=400, metavar="G")
+    p.add_argument("--jobs", type=int, default=1, metavar="J",
+                   help="worker processes (default 1: a generation of a few hundred designs is too small to split)")
+    p.add_argument("--quiet", action="store_true")
+    p.set_defaults(func=cmd_demo)
+
+
+def _register_results(sub) -> None:
+    """Results of a run: plots, picks and comparisons."""
     p = sub.add_parser("plot", help="plot a run's front and progress",
                        description="Write the front, pairwise, frequency and progress plots (PNG and SVG) to RUN_DIR/plots/.")
     p.add_argument("run_dir", metavar="RUN_DIR")
@@ -379,16 +319,6 @@ def register(sub) -> None:
     catalog_arg(p)
     p.set_defaults(func=cmd_pick)
 
-    p = sub.add_parser("flux-map", help="compare materials: loss-limited against saturation-limited ripple flux",
-                       description="For every allowed material, the largest ripple flux amplitude that keeps the core "
-                                   "loss density at a limit, against frequency, beside what saturation allows.")
-    p.add_argument("spec", metavar="SPEC")
-    p.add_argument("--loss-density", type=float, nargs="+", default=[100.0, 300.0], metavar="MW_PER_CM3",
-                   help="core loss density limits in mW/cm3 (default 100 300)")
-    p.add_argument("--out", metavar="DIR", help="output folder (default runs/<spec>-flux-map)")
-    catalog_arg(p)
-    p.set_defaults(func=cmd_flux_map)
-
     p = sub.add_parser("compare", help="overlay the fronts of several runs",
                        description="Overlay the fronts of several runs and tabulate their hypervolumes against a "
                                    "common reference point (1.1 x the worst objective over all fronts).")
@@ -396,13 +326,10 @@ def register(sub) -> None:
     p.add_argument("--out", metavar="DIR", help="output folder (default runs/compare)")
     p.set_defaults(func=cmd_compare)
 
-    p = sub.add_parser("demo", help="run the built-in scenario end to end (about two minutes)",
-                       description="Search the built-in demo scenario, write a run folder, plots and the build "
-                                   "sheet of the balanced design, and print where they are.")
-    p.add_argument("--out", metavar="DIR", help="run folder (default runs/demo-<time>)")
-    p.add_argument("--seed", type=int, default=1)
-    p.add_argument("--generations", type=int, default=400, metavar="G")
-    p.add_argument("--jobs", type=int, default=1, metavar="J",
-                   help="worker processes (default 1: a generation of a few hundred designs is too small to split)")
-    p.add_argument("--quiet", action="store_true")
-    p.set_defaults(func=cmd_demo)
+
+def register(sub) -> None:
+    """Add the subcommands to the parser ``sub``."""
+    _register_catalog(sub)
+    _register_design(sub)
+    _register_search(sub)
+    _register_results(sub)

@@ -13,9 +13,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from catalog import Catalog
-
-from .errors import InputError
+from fluxfront.catalog import Catalog
+from fluxfront.errors import InputError
 
 DESIGN_COLUMNS = ("material", "shape", "stack", "turns", "gap_mm", "wire", "parallel", "f_sw_khz")
 

@@ -1,0 +1,1 @@
+"""The command line: argument parsing, one thin handler per subcommand, exit codes."""

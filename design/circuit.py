@@ -1,0 +1,74 @@
+"""Stage 2, the magnetic circuit: inductance at zero bias, powder roll-off, flux density, loss band.
+
+A ``Circuit`` answers two questions for any current: the flux density in the core and the share
+of the zero-bias permeability kept (1 for gapped cores, the roll-off fit for powder cores).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from fluxfront.models import core_loss, magnetics
+
+from .build import Build
+from .context import Context
+from .designs import Designs
+
+
+@dataclass(frozen=True)
+class Circuit:
+    """Magnetic circuit of each design (arrays of length n)."""
+
+    distributed: np.ndarray   # distributed-gap (powder) material (bool)
+    powder: np.ndarray        # indices of the powder designs: bias-dependent terms are computed for these only
+    fringe: np.ndarray        # gap fringing factor (1 for powder)
+    l0: np.ndarray            # zero-bias inductance [H]
+    turns: np.ndarray         # [-] as float
+    ae: np.ndarray            # magnetic section [m2]
+    n_over_le: np.ndarray     # N / le [1/m]: field per ampere
+    mu_initial: np.ndarray    # relative initial permeability
+    rolloff: tuple            # (a, b, c) of the powder roll-off fit, per design
+    band: np.ndarray          # Steinmetz band at the switching frequency
+    in_band: np.ndarray       # the switching frequency lies in that band's range (bool)
+    hf_scale: np.ndarray      # k_i f^alpha (N Ae f)^-beta Ve: times the op's core_shape gives the iGSE loss [W]
+
+    def flux_density(self, current):
+        """Core flux density at inductor current ``current`` [A] (per design) [T]."""
+        pw = self.powder
+        a, b, c = self.rolloff
+        bf = self.l0 * current / (self.turns * self.ae)
+        bf[pw] = magnetics.powder_flux_density(self.n_over_le[pw] * current[pw], self.mu_initial[pw], a[pw], b[pw],
+                                               c[pw])
+        return bf
+
+    def kept_fraction(self, current):
+        """Permeability fraction kept at ``current`` [A], shape (n,) or (n, S); 1 for gapped cores."""
+        pw = self.powder
+        a, b, c = self.rolloff
+        n = len(self.l0)
+        out = np.ones(np.shape(current) if np.ndim(current) == 2 else (n,))
+        cur = current[pw] if np.ndim(current) else current
+        col = (slice(None), None) if out.ndim == 2 else (slice(None),)
+        out[pw] = magnetics.powder_permeability_fraction(self.n_over_le[pw][col] * cur, a[pw][col], b[pw][col],
+                                                         c[pw][col])
+        return out
+
+
+def circuit(ctx: Context, d: Designs, b: Build) -> Circuit:
+    """Reluctance with fringing (gapped) or the powder's initial permeability; Steinmetz band choice."""
+    M, S = ctx.catalog.material_arrays, ctx.catalog.shape_arrays
+    m, geo = d.material, b.geo
+    N, f = d.turns.astype(float), d.f_sw
+    dist = M.distributed_gap[m]
+    gap_legs = S["gap_legs"][d.shape]
+    gap_area = np.where(gap_legs > 0, geo.gap_area, geo.ae)
+    fringe = np.where(dist, 1.0, ctx.fringing(d.gap / np.maximum(gap_legs, 1), gap_area, geo.gap_window_height))
+    l0 = np.where(dist, magnetics.powder_inductance(N, geo.le, b.ae, M.mu_initial[m]),
+                  magnetics.gapped_inductance(N, geo.le, b.ae, M.mu_initial[m], d.gap, gap_area, fringe))
+    band, in_band = core_loss.select_band(f, M.band_f_min[m], M.band_f_max[m])
+    k_i, alpha, beta = ctx.band_ki[m, band], M.band_alpha[m, band], M.band_beta[m, band]
+    return Circuit(
+        distributed=dist, powder=np.nonzero(dist)[0], fringe=fringe, l0=l0, turns=N, ae=b.ae,
+        n_over_le=N / geo.le, mu_initial=M.mu_initial[m], rolloff=(M.rolloff_a[m], M.rolloff_b[m], M.rolloff_c[m]),
+        band=band, in_band=in_band, hf_scale=k_i * f**alpha * (N * b.ae * f) ** (-beta) * b.ve)

@@ -1,0 +1,35 @@
+"""The result table of an evaluation: one row per design, as ``fluxfront evaluate`` and pareto.csv write it.
+
+Column names are part of the interface (scripts depend on them): the design columns, the
+objectives ``volume_cm3``, ``total_loss_w``, ``cost``, ``feasible``, then the key figures in snake
+case with their unit as suffix.  Loss columns are the weighted mean over the operating points
+(the loss objective); peak, flux, ripple and temperature columns are the worst operating point.
+"""
+from __future__ import annotations
+
+import pandas as pd
+
+from fluxfront.catalog import Catalog
+
+from .evaluator import CONSTRAINTS, Evaluation
+
+KEY_FIGURES = (
+    "inductance_uh", "inductance_at_peak_uh", "i_peak_a", "i_rms_a", "ripple_pp_max_a", "b_peak_t", "b_sat_t",
+    "b_ripple_pp_max_t", "core_loss_w", "winding_dc_loss_w", "winding_ac_loss_w", "switching_loss_w",
+    "temperature_c", "fill", "mass_g",
+)
+RAW_LIMIT_VALUES = ("saturation_ratio", "ripple_ratio", "inductance_kept_fraction", "winding_fit",
+                    "dcm_fraction", "thermal_runaway", "steinmetz_in_band")
+
+def evaluation_frame(ev: Evaluation, catalog: Catalog) -> pd.DataFrame:
+    """One row per design: inputs, objectives, feasible, key figures, raw limit values, normalized constraints."""
+    df = ev.designs.to_frame(catalog)
+    df["volume_cm3"] = ev.objectives[:, 0]
+    df["total_loss_w"] = ev.objectives[:, 1]
+    df["cost"] = ev.objectives[:, 2]
+    df["feasible"] = ev.feasible
+    for k in KEY_FIGURES + RAW_LIMIT_VALUES:
+        df[k] = ev.figures[k]
+    for i, name in enumerate(CONSTRAINTS):
+        df[f"g_{name}"] = ev.constraints[:, i]
+    return df

@@ -1,2 +1,0 @@
-"""fluxfront: multi-objective design of boost-PFC inductors."""
-__version__ = "0.1.0"

@@ -1,0 +1,88 @@
+"""A finished (or stopped) run folder read back for results: plots, picks and comparisons."""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from fluxfront.catalog import Catalog, load_catalog
+from fluxfront.design.evaluator import OBJECTIVES, Context, prepare
+from fluxfront.design.spec import Spec, catalog_folders, load_spec
+from fluxfront.errors import InputError
+from fluxfront.files import write_atomic
+from fluxfront.optimizer.front import hypervolume, knee_index
+
+from . import plots
+from .buildsheet import write_pick
+
+
+def load_run(run_dir, extra_catalogs=()) -> tuple[Spec, Catalog, Context, pd.DataFrame, pd.DataFrame | None]:
+    """Spec, catalog, evaluation context, front and history of a run folder."""
+    run_dir = Path(run_dir)
+    needed = ("run.json", "spec.toml", "pareto.csv")
+    missing = [n for n in needed if not (run_dir / n).is_file()]
+    if missing:
+        raise InputError(f"{run_dir}: not a run folder (missing {missing[0]}; expected {', '.join(needed)})")
+    meta = json.loads((run_dir / "run.json").read_text())
+    spec, _ = load_spec(run_dir / "spec.toml")
+    base = Path(meta.get("spec_file", run_dir / "spec.toml")).parent
+    catalog = load_catalog(catalog_folders(spec, base, extra_catalogs))
+    front = pd.read_csv(run_dir / "pareto.csv")
+    history = pd.read_csv(run_dir / "history.csv") if (run_dir / "history.csv").is_file() else None
+    return spec, catalog, prepare(spec, catalog), front, history
+
+
+def front_knee(front: pd.DataFrame) -> int:
+    """Row of the front's balanced design (see optimizer.front.knee_index)."""
+    return knee_index(front[list(OBJECTIVES)].to_numpy())
+
+
+def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
+    """Front, pairwise, frequency and progress plots (PNG and SVG) in RUN_DIR/plots/."""
+    spec, catalog, ctx, front, history = load_run(run_dir, extra_catalogs)
+    out = Path(run_dir) / "plots"
+    paths = []
+    if len(front):
+        paths += plots.save(plots.front_volume_loss(front, catalog, front_knee(front)), out, "front_volume_loss")
+        paths += plots.save(plots.pairwise(front, catalog), out, "front_pairs")
+        paths += plots.save(plots.frequency_along_front(front, catalog), out, "front_frequency")
+    if history is not None and len(history):
+        paths += plots.save(plots.progress(history), out, "progress")
+    return paths
+
+
+def write_knee_sheet(run_dir) -> Path:
+    """Build sheet of the front's balanced design; returns its folder."""
+    _, _, ctx, front, _ = load_run(run_dir)
+    return write_pick(run_dir, ctx, front, front_knee(front))
+
+
+def compare_runs(run_dirs, out) -> tuple[pd.DataFrame, np.ndarray, list[Path]]:
+    """Overlay the fronts of several runs; hypervolumes against one common reference point.
+
+    The reference is 1.1 x the worst objective over all fronts. Returns the table, the reference
+    and the written files (plot and compare.csv in ``out``).
+    """
+    if len(run_dirs) < 2:
+        raise InputError("compare: expected at least two run folders")
+    fronts = {}
+    for run in run_dirs:
+        path = Path(run) / "pareto.csv"
+        if not path.is_file():
+            raise InputError(f"{run}: not a run folder (no pareto.csv)")
+        label = Path(run).name
+        if label in fronts:                      # two runs with the same folder name: tell them apart
+            label = f"{label} ({len(fronts) + 1})"
+        fronts[label] = pd.read_csv(path)
+    cols = list(OBJECTIVES)
+    stacked = np.vstack([f[cols].to_numpy() for f in fronts.values() if len(f)])
+    reference = 1.1 * stacked.max(axis=0)
+    table = pd.DataFrame([{"run": k, "front_size": len(f), "hypervolume": hypervolume(f[cols].to_numpy(), reference),
+                           "min_volume_cm3": f.volume_cm3.min(), "min_loss_w": f.total_loss_w.min(),
+                           "min_cost": f.cost.min()} for k, f in fronts.items()])
+    out = Path(out)
+    paths = plots.save(plots.compare_fronts(fronts), out, "compare_fronts")
+    paths.append(write_atomic(out / "compare.csv", table.to_csv(index=False)))
+    return table, reference, paths
