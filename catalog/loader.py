@@ -113,6 +113,13 @@ class MaterialArrays:
     band_k: np.ndarray
     band_alpha: np.ndarray
     band_beta: np.ndarray
+    band_b_min: np.ndarray
+    band_b_max: np.ndarray
+    bias_loss_k: np.ndarray
+    tape_wound: np.ndarray
+    cut_loss_factor: np.ndarray
+    cut_residual_gap: np.ndarray    # per joint [m]
+    thermal_conductivity: np.ndarray
 
 
 class Catalog:
@@ -169,6 +176,10 @@ class Catalog:
             distributed_gap=dist, price_per_kg=col("price_per_kg"),
             band_f_min=bands("f_min_hz", np.inf), band_f_max=bands("f_max_hz", np.inf),
             band_k=bands("k", 1.0), band_alpha=bands("alpha", 1.5), band_beta=bands("beta", 2.0),
+            band_b_min=bands("b_min_t", 0.0), band_b_max=bands("b_max_t", np.inf),
+            bias_loss_k=col("bias_loss_k"), tape_wound=np.array([m.tape_wound for m in mats]),
+            cut_loss_factor=col("cut_loss_factor"), cut_residual_gap=col("cut_residual_gap_mm") * 1e-3,
+            thermal_conductivity=col("thermal_conductivity_w_mk"),
         )
 
     def with_permeability_scaled(self, factor: float) -> "Catalog":

@@ -62,6 +62,14 @@ class Material(_Entry):
     price_per_kg: _between(0.0, 10000.0, "per kg")
     provenance: Annotated[str, Field(min_length=3)]
     steinmetz: Annotated[list[SteinmetzBand], Field(min_length=1)]
+    # loss rise under DC bias: factor 1 + bias_loss_k (B_dc / B_sat)^2 (0 = no measurable effect)
+    bias_loss_k: _between(0.0, 20.0) = 0.0
+    # tape-wound ribbon cut into a pair: gap loss at the cut faces, loss raised by the cut, and a
+    # residual gap at each joint even when no gap is ground
+    tape_wound: bool = False
+    cut_loss_factor: _between(1.0, 5.0) = 1.0
+    cut_residual_gap_mm: _between(0.0, 0.5, "mm") = 0.0
+    thermal_conductivity_w_mk: _between(0.1, 400.0, "W/(m K)") = 4.0
 
     model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
 
@@ -75,6 +83,8 @@ class Material(_Entry):
         bands = sorted(self.steinmetz, key=lambda b: b.f_min_hz)
         if any(hi.f_min_hz < lo.f_max_hz for lo, hi in zip(bands, bands[1:])):
             raise ValueError("steinmetz bands overlap in frequency")
+        if not self.tape_wound and (self.cut_loss_factor != 1.0 or self.cut_residual_gap_mm != 0.0):
+            raise ValueError("cut_loss_factor and cut_residual_gap_mm apply to tape_wound materials only")
         return self
 
 
@@ -146,6 +156,9 @@ class Costs(_Entry):
     copper_price_per_kg: _between(0.0, 1000.0, "per kg")
     litz_price_factor: _between(1.0, 20.0)
     labour_per_turn: _between(0.0, 100.0, "per turn")
+    labour_per_turn_ring: _between(0.0, 100.0, "per turn") = 0.05
+    gap_grinding_per_gap: _between(0.0, 1000.0, "per gap") = 0.0
+    cut_and_band_per_core: _between(0.0, 1000.0, "per core") = 0.0
     part_cost_per_core: _between(0.0, 1000.0, "per core")
     assembly_cost: _between(0.0, 10000.0)
     provenance: Annotated[str, Field(min_length=3)]

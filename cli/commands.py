@@ -15,7 +15,7 @@ import pandas as pd
 
 from fluxfront.catalog import load_catalog
 from fluxfront.design.designs import read_design_table, resolve_designs
-from fluxfront.design.evaluator import evaluate, prepare
+from fluxfront.design.evaluator import evaluate, objective_columns, prepare
 from fluxfront.design.spec import demo_spec_path, demo_spec_text, load_problem
 from fluxfront.design.table import evaluation_frame
 from fluxfront.errors import InputError
@@ -172,7 +172,8 @@ def cmd_pick(args) -> int:
         _positive(name.replace("_", "-"), getattr(args, name), integer=False)
     spec, catalog, ctx, front, _ = load_run(args.run_dir, args.catalog)
     rows = pick_rows(front, row=args.row, knee=args.knee, max_volume_cm3=args.max_volume_cm3,
-                     max_loss_w=args.max_loss_w, max_cost=args.max_cost, by=args.by)
+                     max_loss_w=args.max_loss_w, max_cost=args.max_cost, by=args.by,
+                     objectives=objective_columns(spec))
     for row in rows:
         folder = write_pick(args.run_dir, ctx, front, row)
         r = front.iloc[row]

@@ -22,7 +22,10 @@ class Circuit:
 
     distributed: np.ndarray   # distributed-gap (powder) material (bool)
     powder: np.ndarray        # indices of the powder designs: bias-dependent terms are computed for these only
-    fringe: np.ndarray        # gap fringing factor (1 for powder)
+    fringe: np.ndarray        # fringing factor of each discrete gap (1 for powder)
+    gap_total: np.ndarray     # total gap in the path, a cut pair's residual joints included [m]
+    gap_share: np.ndarray     # share of the ampere-turns that drops across the discrete gaps
+    section_ratio: np.ndarray  # Ae / A_min: flux density at the narrowest section over that on Ae
     l0: np.ndarray            # zero-bias inductance [H]
     turns: np.ndarray         # [-] as float
     ae: np.ndarray            # magnetic section [m2]
@@ -31,7 +34,10 @@ class Circuit:
     rolloff: tuple            # (a, b, c) of the powder roll-off fit, per design
     band: np.ndarray          # Steinmetz band at the switching frequency
     in_band: np.ndarray       # the switching frequency lies in that band's range (bool)
-    hf_scale: np.ndarray      # k_i f^alpha (N Ae f)^-beta Ve: times the op's core_shape gives the iGSE loss [W]
+    hf_scale: np.ndarray      # k_i f^alpha (N Ae f)^-beta Ve (x cut factor): times an op's core_shape, the iGSE loss [W]
+    loss_scale: np.ndarray    # cut-core loss factor (1 for uncut cores)
+    bias_k: np.ndarray        # DC-bias loss coefficient of the material
+    b_sat_ref: np.ndarray     # saturation flux density the bias is measured against [T]
 
     def flux_density(self, current):
         """Core flux density at inductor current ``current`` [A] (per design) [T]."""
@@ -56,19 +62,34 @@ class Circuit:
 
 
 def circuit(ctx: Context, d: Designs, b: Build) -> Circuit:
-    """Reluctance with fringing (gapped) or the powder's initial permeability; Steinmetz band choice."""
+    """Reluctance with fringing (gapped) or the powder's initial permeability; Steinmetz band choice.
+
+    A gapped leg's gap may be split into ``d.gaps`` equal gaps spread along it; the handbook fringing
+    factor is then taken per gap with the gaps' pitch as its window (each gap fringes only up to its
+    neighbours; an assumption, no source).  Cut ribbon pairs add their residual joint gaps.
+    """
     M, S = ctx.catalog.material_arrays, ctx.catalog.shape_arrays
     m, geo = d.material, b.geo
     N, f = d.turns.astype(float), d.f_sw
     dist = M.distributed_gap[m]
     gap_legs = S["gap_legs"][d.shape]
+    legs = np.maximum(gap_legs, 1)
     gap_area = np.where(gap_legs > 0, geo.gap_area, geo.ae)
-    fringe = np.where(dist, 1.0, ctx.fringing(d.gap / np.maximum(gap_legs, 1), gap_area, geo.gap_window_height))
-    l0 = np.where(dist, magnetics.powder_inductance(N, geo.le, b.ae, M.mu_initial[m]),
-                  magnetics.gapped_inductance(N, geo.le, b.ae, M.mu_initial[m], d.gap, gap_area, fringe))
+    gap_total = d.gap + np.where(M.tape_wound[m], M.cut_residual_gap[m] * legs, 0.0)
+    each = np.where(gap_total > 0, gap_total, 1e-9) / (legs * d.gaps)
+    fringe = np.where(dist | (gap_total <= 0), 1.0, ctx.fringing(each, gap_area, geo.gap_window_height / d.gaps))
+    mu = M.mu_initial[m]
+    l0 = np.where(dist, magnetics.powder_inductance(N, geo.le, b.ae, mu),
+                  magnetics.gapped_inductance(N, geo.le, b.ae, mu, gap_total, gap_area, fringe))
+    r_core = magnetics.reluctance(geo.le, b.ae, mu)
+    r_gap = magnetics.reluctance(gap_total, gap_area)   # as in gapped_inductance: F scales L, not R_gap
+    share = np.where(dist, 0.0, r_gap / (r_gap + r_core))
     band, in_band = core_loss.select_band(f, M.band_f_min[m], M.band_f_max[m])
     k_i, alpha, beta = ctx.band_ki[m, band], M.band_alpha[m, band], M.band_beta[m, band]
+    scale = M.cut_loss_factor[m]
     return Circuit(
-        distributed=dist, powder=np.nonzero(dist)[0], fringe=fringe, l0=l0, turns=N, ae=b.ae,
-        n_over_le=N / geo.le, mu_initial=M.mu_initial[m], rolloff=(M.rolloff_a[m], M.rolloff_b[m], M.rolloff_c[m]),
-        band=band, in_band=in_band, hf_scale=k_i * f**alpha * (N * b.ae * f) ** (-beta) * b.ve)
+        distributed=dist, powder=np.nonzero(dist)[0], fringe=fringe, gap_total=np.where(dist, 0.0, gap_total),
+        gap_share=share, section_ratio=b.ae / (geo.a_min * M.stacking_factor[m]), l0=l0, turns=N, ae=b.ae,
+        n_over_le=N / geo.le, mu_initial=mu, rolloff=(M.rolloff_a[m], M.rolloff_b[m], M.rolloff_c[m]),
+        band=band, in_band=in_band, hf_scale=k_i * f**alpha * (N * b.ae * f) ** (-beta) * b.ve * scale,
+        loss_scale=scale, bias_k=M.bias_loss_k[m], b_sat_ref=M.b_sat_25c[m])

@@ -1,8 +1,10 @@
 """Design rows: one candidate inductor per row, read from CSV or TOML and resolved against the catalog.
 
-Columns (part of the interface): ``material``, ``shape``, ``stack``, ``turns``, ``gap_mm``, ``wire``,
-``parallel``, ``f_sw_khz``.  ``gap_mm`` is the total gap in the magnetic path; it must be 0 for
-distributed-gap (powder) materials.
+Columns (part of the interface): ``material``, ``shape``, ``stack``, ``turns``, ``gap_mm``, ``gaps``,
+``wire``, ``parallel``, ``f_sw_khz``.  ``gap_mm`` is the total gap in the magnetic path; it must be 0
+for distributed-gap (powder) materials.  ``gaps`` is the number of discrete gaps the gap of each
+gapped leg is split into (1: one gap per gapped leg); it may be left out (then 1) and must be 1
+for powder materials.
 """
 from __future__ import annotations
 
@@ -16,7 +18,9 @@ import pandas as pd
 from fluxfront.catalog import Catalog
 from fluxfront.errors import InputError
 
-DESIGN_COLUMNS = ("material", "shape", "stack", "turns", "gap_mm", "wire", "parallel", "f_sw_khz")
+DESIGN_COLUMNS = ("material", "shape", "stack", "turns", "gap_mm", "gaps", "wire", "parallel", "f_sw_khz")
+OPTIONAL_COLUMNS = {"gaps": "1"}   # column -> value taken where the column is left out
+MAX_GAPS = 8
 
 
 @dataclass(frozen=True)
@@ -31,6 +35,7 @@ class Designs:
     wire: np.ndarray       # catalog wire index
     parallel: np.ndarray   # wires in hand [-]
     f_sw: np.ndarray       # switching frequency [Hz]
+    gaps: np.ndarray       # discrete gaps per gapped leg [-]
 
     def __len__(self) -> int:
         return len(self.turns)
@@ -48,7 +53,8 @@ class Designs:
             "material": np.array(list(catalog.materials))[self.material],
             "shape": np.array(list(catalog.shapes))[self.shape],
             "stack": self.stack.astype(int), "turns": self.turns.astype(int),
-            "gap_mm": np.round(self.gap * 1e3, 6), "wire": np.array(list(catalog.wires))[self.wire],
+            "gap_mm": np.round(self.gap * 1e3, 6), "gaps": self.gaps.astype(int),
+            "wire": np.array(list(catalog.wires))[self.wire],
             "parallel": self.parallel.astype(int), "f_sw_khz": np.round(self.f_sw / 1e3, 6),
         })
 
@@ -105,6 +111,7 @@ def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs") -> Des
 
     Raises InputError naming the row, column, value and the valid choices for the first bad cell.
     """
+    df = df.assign(**{c: v for c, v in OPTIONAL_COLUMNS.items() if c not in df.columns})
     missing = [c for c in DESIGN_COLUMNS if c not in df.columns]
     if missing:
         raise InputError(f"{source}: missing column '{missing[0]}'; design columns are {', '.join(DESIGN_COLUMNS)}")
@@ -117,6 +124,7 @@ def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs") -> Des
     turns = _numbers(df, "turns", source, True, 1, 5000)
     gap = _numbers(df, "gap_mm", source, False, 0, 50) * 1e-3
     par = _numbers(df, "parallel", source, True, 1, 100)
+    gaps = _numbers(df, "gaps", source, True, 1, MAX_GAPS)
     # rounded to mHz so that a kHz value written to CSV reads back to the identical frequency
     f_sw = np.round(_numbers(df, "f_sw_khz", source, False, 1, 10e3) * 1e3, 3)
 
@@ -139,4 +147,9 @@ def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs") -> Des
         i = int(np.argmax(gapped_powder))
         raise InputError(f"{source} row {i + 1}: column 'gap_mm' = {df['gap_mm'].iloc[i]}: material "
                          f"{df['material'].iloc[i].strip()!r} has a distributed gap; expected 0")
-    return Designs(mat, shp, stack.astype(int), turns, gap, wire, par, f_sw)
+    split_powder = dist & (gaps > 1)
+    if split_powder.any():
+        i = int(np.argmax(split_powder))
+        raise InputError(f"{source} row {i + 1}: column 'gaps' = {df['gaps'].iloc[i]}: material "
+                         f"{df['material'].iloc[i].strip()!r} has a distributed gap; expected 1")
+    return Designs(mat, shp, stack.astype(int), turns, gap, wire, par, f_sw, gaps)

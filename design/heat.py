@@ -1,9 +1,11 @@
-"""Stages 4 and 5: the winding's AC factor at three temperatures, then the heat balance.
+"""Stages 4 and 5: the winding's AC terms at three temperatures, then the heat balance.
 
 Temperature enters the losses only through the material's loss factor and the copper
-resistivity, so the balance is solved on per-design scalars: the AC factor is evaluated at three
-temperatures and interpolated (quadratic, error below 0.5 % over 150 K), and Newton steps settle
-``dissipation(dT) = loss(dT)`` for each design and operating point.
+resistivity, so the balance is solved on per-design scalars: the winding AC terms (Dowell and
+gap fringing) are evaluated at three temperatures and interpolated (quadratic, error below
+0.5 % over 150 K), and Newton steps settle ``dissipation(dT) = loss(dT)`` for each design and
+operating point.  The winding and the core each have their own hot spot above the surface, from
+a two-node network (``_conductances``); copper is evaluated at the winding's, the core at its own.
 """
 from __future__ import annotations
 
@@ -11,42 +13,53 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from fluxfront.models import core_loss, thermal, winding
+from fluxfront.models import core_loss, gap_field, geometry, thermal, winding
 
 from .build import Build
+from .circuit import Circuit
 from .context import Context
 from .designs import Designs
 from .line_cycle import LineCycle
 
-TEMPERATURE_NODES_K = (0.0, 75.0, 150.0)  # above ambient: where the AC factor is evaluated
+TEMPERATURE_NODES_K = (0.0, 75.0, 150.0)  # above ambient: where the winding AC terms are evaluated
 NEWTON_STEPS = 60
 RUNAWAY_RISE_K = 1000.0  # a balance above this rise is runaway: no insulation or core survives it
 
 
-def _natural(spec, area, height, dt):
-    return thermal.natural_convection(dt, spec.limits.ambient_c, area, height, spec.thermal.emissivity)
+def _natural(spec, box, dt):
+    length, width, height = box
+    return thermal.box_natural_convection(dt, spec.limits.ambient_c, length, width, height, spec.thermal.emissivity,
+                                          bottom_exposed=spec.thermal.mounting == "free")
 
 
-def _forced(spec, area, height, dt):
-    return thermal.forced_convection(dt, spec.limits.ambient_c, area, spec.thermal.h_forced_w_m2k,
+def _exposed_area(spec, box):
+    length, width, height = box
+    bottom = length * width if spec.thermal.mounting == "free" else 0.0
+    return 2 * height * (length + width) + length * width + bottom
+
+
+def _forced(spec, box, dt):
+    return thermal.forced_convection(dt, spec.limits.ambient_c, _exposed_area(spec, box), spec.thermal.h_forced_w_m2k,
                                      spec.thermal.emissivity)
 
 
-def _empirical(spec, area, height, dt):
-    return thermal.empirical_dissipation(dt, area)
+def _empirical(spec, box, dt):
+    return thermal.empirical_dissipation(dt, _exposed_area(spec, box))
 
 
-# spec.thermal.model -> (spec, area [m2], height [m], rise [K]) -> (power [W], slope [W/K])
+# spec.thermal.model -> (spec, box (length, width, height) [m], rise [K]) -> (power [W], slope [W/K]).
+# The part stands on its largest face (lowest profile): the height is the box's smallest edge.
 DISSIPATION_MODELS = {"natural": _natural, "forced": _forced, "empirical": _empirical}
 assert tuple(DISSIPATION_MODELS) == thermal.THERMAL_MODELS
 
 
 @dataclass(frozen=True)
 class AcFactors:
-    """Sum over harmonics of F_R(n f) times the harmonic's mean square, at three temperatures."""
+    """Winding AC terms at three temperatures, interpolated by the heat balance."""
 
-    t_nodes: np.ndarray   # (3,) hot-spot temperatures of the nodes [C]
-    nodes: np.ndarray     # (n, n_ops, 3) [A2]: winding AC loss = R_dc(T) * interpolated value
+    t_nodes: np.ndarray   # (3,) winding temperatures of the nodes [C]
+    nodes: np.ndarray     # (n, n_ops, 3) [A2]: Dowell AC loss = R_dc(T) * interpolated value
+    fringing: np.ndarray  # (n, n_ops, 3) [W]: loss the discrete gaps' fringing field drives
 
 
 @dataclass(frozen=True)
@@ -54,14 +67,18 @@ class HeatBalance:
     """Settled temperatures and the losses at them (arrays (n, n_ops), SI units)."""
 
     t_surface: np.ndarray   # [C]
-    t_hot: np.ndarray       # [C]; where runaway: the last iterate, not a state
+    t_winding: np.ndarray   # winding hot spot [C]
+    t_core: np.ndarray      # core hot spot [C]
+    t_hot: np.ndarray       # the hotter of the two [C]; where runaway: the last iterate, not a state
     runaway: np.ndarray     # no stable balance below RUNAWAY_RISE_K (bool)
-    core: np.ndarray        # core loss at temperature [W]
+    core: np.ndarray        # core loss at temperature, bias and cut factors included [W]
     core_line: np.ndarray   # its line-frequency loop part [W]
+    core_gap: np.ndarray    # gap loss of cut ribbon cores [W]
     winding_dc: np.ndarray  # [W]
     winding_ac: np.ndarray  # [W]
-    switching: np.ndarray   # semiconductor switching loss [W]
-    total: np.ndarray       # [W]
+    winding_fringing: np.ndarray  # [W]
+    switching: np.ndarray   # semiconductor switching loss, not the inductor's [W]
+    total: np.ndarray       # the inductor's own loss [W]
 
 
 def _lagrange3(x, nodes, values):
@@ -82,8 +99,29 @@ def _lagrange3_slope(x, nodes, values):
     return d0 * values[..., 0] + d1 * values[..., 1] + d2 * values[..., 2]
 
 
-def ac_factors(ctx: Context, d: Designs, b: Build, lc: LineCycle) -> AcFactors:
-    """Dowell (solid wire) or strand-level litz factor over the ripple harmonics, at three temperatures."""
+def _fringing_geometry(ctx: Context, d: Designs, b: Build, c: Circuit):
+    """Geometry factor of every coil beside discrete gaps, times the coil count [1/m]; 0 without gaps."""
+    cat, geo = ctx.catalog, b.geo
+    W = cat.wire_arrays
+    coils = cat.shape_arrays["gap_legs"][d.shape]
+    gapped = (c.gap_total > 0) & (coils > 0)
+    if not gapped.any():
+        return np.zeros(len(d))
+    strands = np.where(W["litz"][d.wire], W["strands"][d.wire], 1.0)
+    per_metre = b.turns_per_layer * d.parallel * strands / geo.window_breadth
+    g = gap_field.fringing_geometry_factor(geo.leg_perimeter, geo.bobbin_wall + b.keepout,
+                                           W["outer_diameter"][d.wire], b.layers, per_metre,
+                                           np.where(gapped, c.gap_total, 1e-3) / np.maximum(coils, 1), d.gaps,
+                                           geo.gap_window_height)
+    return np.where(gapped, g * coils, 0.0)
+
+
+def ac_factors(ctx: Context, d: Designs, b: Build, c: Circuit, lc: LineCycle) -> AcFactors:
+    """Dowell (solid wire) or strand-level litz factor, and the gaps' fringing loss, at three temperatures.
+
+    The fringing loss of harmonic n is ``rho G Gamma(d/delta_n) F_n^2`` with the peak MMF across one
+    leg's gaps ``F_n = N I_n,pk share / legs`` (models.gap_field).
+    """
     cat, geo = ctx.catalog, b.geo
     W = cat.wire_arrays
     w, f, par = d.wire, d.f_sw, d.parallel.astype(float)
@@ -97,84 +135,148 @@ def ac_factors(ctx: Context, d: Designs, b: Build, lc: LineCycle) -> AcFactors:
     # (held within (0, 1]: a layer cannot hold more copper than its breadth, nor less than a trace)
     eta = np.clip(b.turns_per_layer * par * np.where(litz, np.sqrt(n_s) * d_s, d_s) / breadth, 1e-3, 1.0)
     strand_layers = np.where(litz, b.layers * np.sqrt(n_s), b.layers)
+    geometry_factor = _fringing_geometry(ctx, d, b, c)
+    coils = np.maximum(cat.shape_arrays["gap_legs"][d.shape], 1)
+    mmf_sq = (c.turns * c.gap_share / coils)[:, None, None] ** 2 * 2 * lc.harmonics_ms   # peak, per harmonic
     nodes = np.empty((n, len(ctx.ops), 3))
+    fringing = np.zeros((n, len(ctx.ops), 3))
     solid = ~litz
+    fringed = np.nonzero(geometry_factor > 0)[0]
     for k, t in enumerate(t_nodes):
-        delta = winding.skin_depth(f[:, None] * ctx.harmonics, winding.copper_resistivity(
-            t, cat.copper.resistivity_ohm_m_20c, cat.copper.tempco_per_k))
+        rho = winding.copper_resistivity(t, cat.copper.resistivity_ohm_m_20c, cat.copper.tempco_per_k)
+        delta = winding.skin_depth(f[:, None] * ctx.harmonics, rho)
         fr = np.empty_like(delta)
         fr[litz] = winding.litz_factor(d_s[litz, None], delta[litz], strand_layers[litz, None], eta[litz, None])
         fr[solid] = winding.dowell_factor(winding.round_wire_dowell_x(d_s[solid, None], delta[solid], eta[solid, None]),
                                           b.layers[solid, None])
         nodes[:, :, k] = (fr[:, None, :] * lc.harmonics_ms).sum(axis=-1)
-    return AcFactors(t_nodes, nodes)
+        if fringed.size:
+            gamma = gap_field.round_wire_transverse_factor(d_s[fringed, None] / delta[fringed])
+            fringing[fringed, :, k] = gap_field.fringing_winding_loss(
+                geometry_factor[fringed, None], mmf_sq[fringed], gamma[:, None, :], rho)
+    return AcFactors(t_nodes, nodes, fringing)
 
 
-def _newton(ctx: Context, d: Designs, b: Build, lc: LineCycle, ac: AcFactors):
-    """Surface rise per design and operating point, and whether a stable balance was reached."""
-    spec, M = ctx.spec, ctx.catalog.material_arrays
-    m, n, n_ops = d.material, len(d), len(ctx.ops)
+def _conductances(ctx: Context, d: Designs, b: Build):
+    """Winding-surface, core-surface and winding-core conductances of the two-node network [W/K].
+
+    Winding: a slab of the winding's build over its outer surface, heat generated evenly, cooled
+    outside (``thermal.winding_conductivity_w_mk``).  Core: a slab as thick as the leg (sqrt Ae)
+    over the core's outer surface (the material's conductivity).  Coupling: the bobbin wall (or
+    coating) between the first layer and the leg (``thermal.bobbin_conductivity_w_mk``).
+    """
+    th, geo = ctx.spec.thermal, b.geo
+    M, S = ctx.catalog.material_arrays, ctx.catalog.shape_arrays
+    legs = S["winding_legs"][d.shape]
+    outer_turn = geometry.mean_turn_length(geo, b.keepout + b.depth)
+    g_w = thermal.slab_conductance(th.winding_conductivity_w_mk, outer_turn * geo.window_breadth * legs,
+                                   np.maximum(b.depth, 1e-4))
+    box = geo.core_box
+    core_area = 2 * (box[:, 0] * box[:, 1] + box[:, 0] * box[:, 2] + box[:, 1] * box[:, 2])
+    g_c = thermal.slab_conductance(M.thermal_conductivity[d.material], core_area, np.sqrt(b.ae))
+    g_x = th.bobbin_conductivity_w_mk * geo.leg_perimeter * geo.window_breadth * legs / np.maximum(
+        geo.bobbin_wall + b.keepout, 5e-4)
+    return g_w, g_c, g_x
+
+
+@dataclass(frozen=True)
+class _Terms:
+    """What the Newton steps need, per design and operating point (arrays (n, n_ops))."""
+
+    core_ref: np.ndarray
+    core_gap: np.ndarray
+    i2: np.ndarray
+    r20: np.ndarray
+    box: tuple
+    conductances: tuple
+
+
+def _losses(ctx: Context, m, t: _Terms, ac: AcFactors, sel, t_w, t_c):
+    """Winding and core loss at temperatures ``t_w``, ``t_c`` and their slopes in those temperatures."""
+    M, alpha_cu = ctx.catalog.material_arrays, ctx.catalog.copper.tempco_per_k
+    rows = sel[0]
+    ref, c1, c2 = M.loss_temp_ref[m][rows], M.loss_temp_c1[m][rows], M.loss_temp_c2[m][rows]
+    a_t = _lagrange3(t_w, ac.t_nodes, ac.nodes[sel])
+    r_t = t.r20[sel] * (1 + alpha_cu * (t_w - 20.0))
+    p_w = r_t * (t.i2[sel] + a_t) + _lagrange3(t_w, ac.t_nodes, ac.fringing[sel])
+    dp_w = (t.r20[sel] * alpha_cu * (t.i2[sel] + a_t) + r_t * _lagrange3_slope(t_w, ac.t_nodes, ac.nodes[sel])
+            + _lagrange3_slope(t_w, ac.t_nodes, ac.fringing[sel]))
+    p_c = t.core_ref[sel] * core_loss.temperature_factor(t_c, ref, c1, c2) + t.core_gap[sel]
+    dp_c = t.core_ref[sel] * core_loss.temperature_factor_slope(t_c, ref, c1, c2)
+    return p_w, dp_w, p_c, dp_c
+
+
+def _rises(ctx: Context, t: _Terms, sel, p_w, p_c):
+    """Winding and core hot spots over the surface: the fixed spec value, or the two-node network."""
+    fixed = ctx.spec.thermal.internal_rise_k
+    if fixed is not None:
+        return np.full(p_w.shape, fixed), np.full(p_w.shape, fixed)
+    g_w, g_c, g_x = (g[sel] for g in t.conductances)
+    return thermal.two_node_rises(p_w, p_c, g_w, g_c, g_x)
+
+
+def _newton(ctx: Context, d: Designs, t: _Terms, ac: AcFactors):
+    """Surface rise and internal rises per design and operating point, and whether a stable balance was reached."""
+    spec, m = ctx.spec, d.material
+    n, n_ops = len(d), len(ctx.ops)
     amb = spec.limits.ambient_c
-    area = np.broadcast_to(b.surface[:, None], (n, n_ops))
-    height = np.broadcast_to(b.size.max(axis=1)[:, None], (n, n_ops))
     dissipation = DISSIPATION_MODELS[spec.thermal.model]
-    ref, c1, c2 = M.loss_temp_ref[m], M.loss_temp_c1[m], M.loss_temp_c2[m]
-    rise_int, alpha_cu = spec.thermal.internal_rise_k, ctx.catalog.copper.tempco_per_k
-    core_ref, i2 = lc.per_op["core_ref"], lc.per_op["i_line_rms"] ** 2
-    r20 = np.broadcast_to(b.r_dc20[:, None], (n, n_ops))
-    t_nodes = ac.t_nodes
+    every = np.nonzero(np.ones((n, n_ops), dtype=bool))
     # starting guess: the loss at a 30 K rise spread with a typical 12 W/(m2 K) of convection plus
     # radiation (only a start; the Newton steps below settle the balance)
-    t0 = amb + 30.0 + rise_int
-    loss0 = core_ref * core_loss.temperature_factor(t0, ref, c1, c2)[:, None] + r20 * (
-        1 + alpha_cu * (t0 - 20.0)) * (i2 + _lagrange3(t0, t_nodes, ac.nodes))
-    dt = np.clip(loss0 / (12.0 * area), 1.0, 1500.0)
+    p_w, _, p_c, _ = _losses(ctx, m, t, ac, every, amb + 30.0, amb + 30.0)
+    area = _exposed_area(spec, tuple(x[every] for x in t.box))
+    dt = np.clip((p_w + p_c) / (12.0 * area), 1.0, 1500.0).reshape(n, n_ops)
+    rise_w, rise_c = (np.clip(r, 0.0, 2000.0).reshape(n, n_ops) for r in _rises(ctx, t, every, p_w, p_c))
     converged = np.zeros((n, n_ops), dtype=bool)
     stable = np.zeros((n, n_ops), dtype=bool)
-    active = np.nonzero(np.ones((n, n_ops), dtype=bool))
+    active = every
     for _ in range(NEWTON_STEPS):
-        # Newton on dissipation(dT) - loss(dT) = 0, only where not yet converged.  The loss slope in
-        # the denominator makes it converge in a few steps; its floor (a fifth of the dissipation
-        # slope) keeps each step moving up towards the first, stable, crossing from below.
-        rows = active[0]
+        # Newton on dissipation(dT) - loss(dT) = 0, only where not yet converged, with the internal
+        # rises taken from the previous step.  The loss slope in the denominator makes it converge in
+        # a few steps; its floor (a fifth of the dissipation slope) keeps each step moving up towards
+        # the first, stable, crossing from below.
         x = dt[active]
-        t_hot = amb + x + rise_int
-        a_t = _lagrange3(t_hot, t_nodes, ac.nodes[active])
-        r_t = r20[active] * (1 + alpha_cu * (t_hot - 20.0))
-        loss = core_ref[active] * core_loss.temperature_factor(t_hot, ref[rows], c1[rows], c2[rows]) + r_t * (
-            i2[active] + a_t)
-        dloss = (core_ref[active] * core_loss.temperature_factor_slope(t_hot, ref[rows], c1[rows], c2[rows])
-                 + r20[active] * alpha_cu * (i2[active] + a_t)
-                 + r_t * _lagrange3_slope(t_hot, t_nodes, ac.nodes[active]))
-        p, dp = dissipation(spec, area[active], height[active], x)
+        p_w, dp_w, p_c, dp_c = _losses(ctx, m, t, ac, active, amb + x + rise_w[active], amb + x + rise_c[active])
+        loss, dloss = p_w + p_c, dp_w + dp_c
+        p, dp = dissipation(spec, tuple(b[active] for b in t.box), x)
         new = np.clip(x - (p - loss) / np.maximum(dp - dloss, 0.2 * dp), 0.0, 2000.0)
-        done = np.abs(new - x) < 0.01
-        dt[active] = new
+        new_w, new_c = (np.clip(r, 0.0, 2000.0) for r in _rises(ctx, t, active, p_w, p_c))
+        done = (np.abs(new - x) < 0.01) & (np.abs(new_w - rise_w[active]) < 0.01) & (
+            np.abs(new_c - rise_c[active]) < 0.01)
+        dt[active], rise_w[active], rise_c[active] = new, new_w, new_c
         hit = (active[0][done], active[1][done])
         converged[hit] = True
         stable[hit] = (dp > dloss)[done]          # dissipation rises faster than loss: a stable balance
         active = (active[0][~done], active[1][~done])
         if active[0].size == 0:
             break
-    return dt, converged, stable
+    return dt, rise_w, rise_c, converged, stable
 
 
 def heat_balance(ctx: Context, d: Designs, b: Build, lc: LineCycle, ac: AcFactors) -> HeatBalance:
     """Settle the temperature of every design and operating point; losses at that temperature."""
     spec, M = ctx.spec, ctx.catalog.material_arrays
-    m = d.material
-    dt, converged, stable = _newton(ctx, d, b, lc, ac)
+    m, n, n_ops = d.material, len(d), len(ctx.ops)
+    edges = np.sort(b.size, axis=1)        # the part stands on its largest face: height = smallest edge
+    box = tuple(np.broadcast_to(edges[:, i, None], (n, n_ops)) for i in (2, 1, 0))
+    terms = _Terms(lc.per_op["core_ref"], lc.per_op["core_gap"], lc.per_op["i_line_rms"] ** 2,
+                   np.broadcast_to(b.r_dc20[:, None], (n, n_ops)), box,
+                   tuple(np.broadcast_to(g[:, None], (n, n_ops)) for g in _conductances(ctx, d, b)))
+    dt, rise_w, rise_c, converged, stable = _newton(ctx, d, terms, ac)
     # no converged, stable balance, or one above RUNAWAY_RISE_K: thermal runaway
     runaway = ~converged | ~stable | (dt >= RUNAWAY_RISE_K)
     t_surface = spec.limits.ambient_c + dt
-    t_hot = t_surface + spec.thermal.internal_rise_k
-    r_dc = b.r_dc20[:, None] * (1 + ctx.catalog.copper.tempco_per_k * (t_hot - 20.0))
-    loss_factor = core_loss.temperature_factor(t_hot, M.loss_temp_ref[m, None], M.loss_temp_c1[m, None],
+    t_w, t_c = t_surface + rise_w, t_surface + rise_c
+    r_dc = b.r_dc20[:, None] * (1 + ctx.catalog.copper.tempco_per_k * (t_w - 20.0))
+    loss_factor = core_loss.temperature_factor(t_c, M.loss_temp_ref[m, None], M.loss_temp_c1[m, None],
                                                M.loss_temp_c2[m, None])
     core = lc.per_op["core_ref"] * loss_factor
     wdc = r_dc * lc.per_op["i_line_rms"] ** 2
-    wac = r_dc * _lagrange3(t_hot, ac.t_nodes, ac.nodes)
-    sw = lc.per_op["switching"]
-    return HeatBalance(t_surface=t_surface, t_hot=t_hot, runaway=runaway, core=core,
-                       core_line=lc.per_op["core_line_ref"] * loss_factor, winding_dc=wdc, winding_ac=wac,
-                       switching=sw, total=core + wdc + wac + sw)
+    wac = r_dc * _lagrange3(t_w, ac.t_nodes, ac.nodes)
+    fringing = _lagrange3(t_w, ac.t_nodes, ac.fringing)
+    gap = lc.per_op["core_gap"]
+    return HeatBalance(t_surface=t_surface, t_winding=t_w, t_core=t_c, t_hot=np.maximum(t_w, t_c), runaway=runaway,
+                       core=core, core_line=lc.per_op["core_line_ref"] * loss_factor, core_gap=gap, winding_dc=wdc,
+                       winding_ac=wac, winding_fringing=fringing, switching=lc.per_op["switching"],
+                       total=core + gap + wdc + wac + fringing)

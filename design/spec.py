@@ -19,7 +19,7 @@ from fluxfront.catalog import Catalog, load_catalog
 from fluxfront.catalog.validation import validate_entry
 from fluxfront.errors import InputError
 from fluxfront.models.magnetics import FRINGING_MODELS
-from fluxfront.models.thermal import THERMAL_MODELS
+from fluxfront.models.thermal import MOUNTINGS, THERMAL_MODELS
 
 
 class _Section(BaseModel):
@@ -49,6 +49,10 @@ class Limits(_Section):
     ambient_c: Annotated[float, Field(ge=-40, le=150)]
     hot_spot_max_c: Annotated[float, Field(gt=-40, le=300)]
     dcm_max_fraction: Annotated[float, Field(gt=0, le=1)]
+    # the controller's peak current limit: an absolute value, or a factor over each design's own
+    # worst peak current (1.25: common practice, no source); a transient check, no temperature limit
+    current_limit_a: Annotated[float, Field(gt=0, le=1e4)] | None = None
+    current_limit_factor: Annotated[float, Field(ge=1, le=5)] = 1.25
 
     @model_validator(mode="after")
     def _hot_above_ambient(self):
@@ -59,9 +63,19 @@ class Limits(_Section):
 
 class Thermal(_Section):
     model: Literal[THERMAL_MODELS]
+    mounting: Literal[MOUNTINGS] = "board"
     emissivity: Annotated[float, Field(ge=0, le=1)] = 0.9
     h_forced_w_m2k: Annotated[float, Field(gt=0, le=1000)] = 25.0
-    internal_rise_k: Annotated[float, Field(ge=0, le=100)] = 10.0
+    # hot spot above the surface: None = from the two-node winding-core network (design/heat.py);
+    # a number fixes it instead
+    internal_rise_k: Annotated[float, Field(ge=0, le=100)] | None = None
+    winding_conductivity_w_mk: Annotated[float, Field(gt=0, le=400)] = 0.5
+    bobbin_conductivity_w_mk: Annotated[float, Field(gt=0, le=400)] = 0.25
+
+
+class Construction(_Section):
+    # extra distance between a gapped leg and the first layer, beyond the bobbin wall
+    gap_keepout_mm: Annotated[float, Field(ge=0, le=20)] = 0.0
 
 
 class Switching(_Section):
@@ -93,6 +107,8 @@ class Search(_Section):
     f_sw_khz_min: Annotated[float, Field(gt=0, le=10e3)] = 30.0
     f_sw_khz_max: Annotated[float, Field(gt=0, le=10e3)] = 300.0
     f_sw_khz_step: Annotated[float, Field(ge=0.001, le=1000)] = 0.1
+    gaps_max: Annotated[int, Field(ge=1, le=8)] = 4
+    loss_objective: Literal["inductor", "system"] = "inductor"
 
     @model_validator(mode="after")
     def _ranges(self):
@@ -108,6 +124,7 @@ class Spec(_Section):
     limits: Limits
     thermal: Thermal
     switching: Switching = Field(default_factory=lambda: Switching(enabled=False))
+    construction: Construction = Field(default_factory=Construction)
     model: ModelOptions = Field(default_factory=ModelOptions)
     search: Search = Field(default_factory=Search)
     catalog: list[str] = Field(default_factory=list)
@@ -120,6 +137,9 @@ class Spec(_Section):
                                  f"converter.bus_v = {self.converter.bus_v} V for a boost stage")
         if sum(op.weight for op in self.operating_point) <= 0:
             raise ValueError("operating_point weights must not all be zero")
+        if self.search.loss_objective == "system" and not self.switching.enabled:
+            raise ValueError("search.loss_objective = 'system' needs a [switching] section with enabled = true "
+                             "and the switching-energy fit of your own devices")
         return self
 
     @property

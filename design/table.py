@@ -1,7 +1,8 @@
 """The result table of an evaluation: one row per design, as ``fluxfront evaluate`` and pareto.csv write it.
 
 Column names are part of the interface (scripts depend on them): the design columns, the
-objectives ``volume_cm3``, ``total_loss_w``, ``cost``, ``feasible``, then the key figures in snake
+objectives ``volume_cm3``, ``total_loss_w`` (the inductor's own), ``system_loss_w`` (with the
+semiconductors' switching loss), ``cost``, ``feasible``, then the key figures in snake
 case with their unit as suffix.  Loss columns are the weighted mean over the operating points
 (the loss objective); peak, flux, ripple and temperature columns are the worst operating point.
 """
@@ -13,20 +14,23 @@ from fluxfront.catalog import Catalog
 
 from .evaluator import CONSTRAINTS, Evaluation
 
+OBJECTIVE_COLUMNS = ("volume_cm3", "total_loss_w", "system_loss_w", "cost")
 KEY_FIGURES = (
     "inductance_uh", "inductance_at_peak_uh", "i_peak_a", "i_rms_a", "ripple_pp_max_a", "b_peak_t", "b_sat_t",
-    "b_ripple_pp_max_t", "core_loss_w", "winding_dc_loss_w", "winding_ac_loss_w", "switching_loss_w",
-    "temperature_c", "fill", "mass_g",
+    "current_limit_a", "b_at_current_limit_t", "b_ripple_pp_max_t", "core_loss_w", "core_gap_loss_w",
+    "core_bias_factor", "winding_dc_loss_w", "winding_ac_loss_w", "winding_fringing_loss_w", "switching_loss_w",
+    "temperature_c", "winding_temperature_c", "core_temperature_c", "fill", "height_mm", "mass_g",
 )
 RAW_LIMIT_VALUES = ("saturation_ratio", "ripple_ratio", "inductance_kept_fraction", "winding_fit",
-                    "dcm_fraction", "thermal_runaway", "steinmetz_in_band")
+                    "dcm_fraction", "thermal_runaway", "steinmetz_in_band", "steinmetz_in_range",
+                    "b_ripple_amplitude_t")
+
 
 def evaluation_frame(ev: Evaluation, catalog: Catalog) -> pd.DataFrame:
     """One row per design: inputs, objectives, feasible, key figures, raw limit values, normalized constraints."""
     df = ev.designs.to_frame(catalog)
-    df["volume_cm3"] = ev.objectives[:, 0]
-    df["total_loss_w"] = ev.objectives[:, 1]
-    df["cost"] = ev.objectives[:, 2]
+    for k in OBJECTIVE_COLUMNS:
+        df[k] = ev.figures[k]
     df["feasible"] = ev.feasible
     for k in KEY_FIGURES + RAW_LIMIT_VALUES:
         df[k] = ev.figures[k]

@@ -151,3 +151,57 @@ def temperature_factor_slope(temperature_c, t_ref, c1, c2):
     dt = np.asarray(temperature_c, dtype=float) - np.asarray(t_ref)
     value = 1.0 + np.asarray(c1) * dt + np.asarray(c2) * dt * dt
     return np.where(value > 0.2, np.asarray(c1) + 2.0 * np.asarray(c2) * dt, 0.0)
+
+
+# Handbook gap-loss coefficient by the number of coils on a cut core (from memory; the handbook
+# tabulates it by coil arrangement, about 0.39 for two coils and 0.78 for one)
+GAP_LOSS_KI = {2: 0.388, 1: 0.775}
+
+
+def cut_core_gap_loss(strip_width, gap, f, b_ac, k_i=0.388):
+    """Eddy loss near the gaps of a tape-wound cut core [W].
+
+    Parameters
+    ----------
+    strip_width : array [m]  ribbon width across which the fringing flux drives eddy currents
+    gap : array [m]          total gap of the magnetic path
+    f : array [Hz]
+    b_ac : array [T]         peak of the equivalent sinusoidal AC flux density
+    k_i : float              coil-arrangement coefficient (GAP_LOSS_KI)
+
+    Notes
+    -----
+    ``P = K_i E l_g f B_ac^2`` with ``E`` and ``l_g`` in cm, ``f`` in Hz, ``B_ac`` in T: the fringing flux
+    enters the ribbon at right angles near the gap.  Empirical; linear in the gap, so splitting a gap
+    does not reduce it in this model (conservative).
+
+    References
+    ----------
+    Transformer and Inductor Design Handbook, 4th ed., CRC Press 2011, chapter on gapped inductors
+    (gap loss; from memory).
+    """
+    return k_i * (np.asarray(strip_width) * 100.0) * (np.asarray(gap) * 100.0) * np.asarray(f) * np.asarray(b_ac) ** 2
+
+
+def bias_loss_factor(b_dc, b_sat, k_bias):
+    """Rise of the core loss under a DC premagnetization, ``1 + k_b (B_dc/B_sat)^2`` [-].
+
+    Parameters
+    ----------
+    b_dc : array [T]     DC (here: line-frequency, quasi-static) flux density
+    b_sat : array [T]    saturation flux density the bias is measured against
+    k_bias : array [-]   material coefficient (0: no effect)
+
+    Notes
+    -----
+    A quadratic in the bias relative to saturation: the shape of the loss rise that published
+    premagnetization measurements show for ferrite and ribbon materials at moderate bias (strong
+    for MnZn ferrite and nanocrystalline ribbon, hardly any for MoNi powder).  The quadratic keeps
+    the line-cycle mean exact from two design-independent integrals (see design/context.py).
+
+    References
+    ----------
+    "Core losses under the DC bias condition based on Steinmetz parameters", IEEE Trans. Power
+    Electronics 27(2), 2012 (trend by class; coefficients in the catalog are from memory).
+    """
+    return 1.0 + np.asarray(k_bias) * (np.asarray(b_dc) / np.asarray(b_sat)) ** 2

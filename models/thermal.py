@@ -158,4 +158,101 @@ def solve_rise(power, dissipation, dt_start=None, iterations=60, tol_k=1e-6):
     return dt
 
 
+def horizontal_plate_nusselt(rayleigh, facing="up"):
+    """Mean Nusselt number of a heated horizontal plate's upper (``"up"``) or lower (``"down"``) face [-].
+
+    Notes
+    -----
+    Upper face: ``Nu = 0.54 Ra^(1/4)`` for Ra up to 1e7, ``0.15 Ra^(1/3)`` above (continuous within
+    a few per cent at 1e7); lower face: ``Nu = 0.27 Ra^(1/4)``; characteristic length ``L = A / P``.
+    The laminar laws are used below their lower Ra bound too (small parts), where they underestimate.
+
+    References
+    ----------
+    Upper-surface correlation of natural convection above a heated horizontal plate (1974), as given
+    in the heat-transfer textbooks; lower face likewise (from memory).
+    """
+    ra = np.maximum(np.asarray(rayleigh, dtype=float), 0.0)
+    if facing == "down":
+        return 0.27 * ra**0.25
+    return np.where(ra <= 1e7, 0.54 * ra**0.25, 0.15 * ra ** (1.0 / 3.0))
+
+
+def box_natural_convection(dt, t_amb_c, length, width, height, emissivity, bottom_exposed=False):
+    """Natural convection and radiation from a box standing on a horizontal face [W, W/K].
+
+    Parameters
+    ----------
+    dt : array [K]                  surface temperature rise over the air
+    t_amb_c : array [C]             air temperature
+    length, width : array [m]       edges of the footprint
+    height : array [m]              vertical edge
+    emissivity : array [-]
+    bottom_exposed : bool           free-standing (True) or on a board (False: the bottom face
+                                    neither convects nor radiates)
+
+    Returns
+    -------
+    power : array [W], dpower_ddt : array [W/K]
+
+    Notes
+    -----
+    Four vertical sides: Churchill-Chu with the true height; top: upper-face correlation with
+    ``L = A/P``; bottom (free-standing only): lower-face correlation.  Radiation from every exposed
+    face.  Air properties at the film temperature; the derivative assumes ``h ~ dT^(1/4)`` for the
+    horizontal faces (the laminar law) and neglects the air properties' change.
+    """
+    dt = np.maximum(np.asarray(dt, dtype=float), 1e-6)
+    length, width, height = (np.asarray(v, dtype=float) for v in (length, width, height))
+    sides = 2 * height * (length + width)
+    top = length * width
+    exposed = sides + top * (2.0 if bottom_exposed else 1.0)
+    p_side, dp_side = natural_convection(dt, t_amb_c, sides, height, 0.0)
+    film = np.asarray(t_amb_c, dtype=float) + dt / 2
+    k, nu, pr = air_properties(film)
+    char = top / (2 * (length + width))
+    ra = GRAVITY / (film + KELVIN) * dt * char**3 / (nu * nu / pr)
+    h_flat = horizontal_plate_nusselt(ra, "up") * k / char
+    if bottom_exposed:
+        h_flat = h_flat + horizontal_plate_nusselt(ra, "down") * k / char
+    p_flat = h_flat * top * dt
+    p_rad, dp_rad = radiation(dt, t_amb_c, exposed, emissivity)
+    return p_side + p_flat + p_rad, dp_side + 1.25 * p_flat / dt + dp_rad
+
+
+def two_node_rises(p_winding, p_core, g_winding, g_core, g_coupling):
+    """Rises of the winding and core hot spots over the outer surface, from a two-node network [K].
+
+    Parameters
+    ----------
+    p_winding, p_core : array [W]   heat generated in the winding and in the core
+    g_winding : array [W/K]         winding hot spot to the surface
+    g_core : array [W/K]            core hot spot to the surface
+    g_coupling : array [W/K]        winding to core (through the bobbin or coating)
+
+    Notes
+    -----
+    Nodal equations ``(G_w + G_x) T_w - G_x T_c = P_w`` and ``-G_x T_w + (G_c + G_x) T_c = P_c``,
+    solved in closed form.
+    """
+    gw, gc, gx = (np.asarray(v, dtype=float) for v in (g_winding, g_core, g_coupling))
+    det = (gw + gx) * (gc + gx) - gx * gx
+    rise_w = (np.asarray(p_winding) * (gc + gx) + gx * np.asarray(p_core)) / det
+    rise_c = (np.asarray(p_core) * (gw + gx) + gx * np.asarray(p_winding)) / det
+    return rise_w, rise_c
+
+
+def slab_conductance(conductivity, area, thickness):
+    """Conductance from the hot mid-plane of a slab heated evenly through its volume to its faces [W/K].
+
+    Notes
+    -----
+    A slab of thickness ``t`` generating ``P`` evenly, cooled on one face of area ``A`` (the other face
+    adiabatic), rises ``P t / (2 k A)`` at its far face: ``G = 2 k A / t``.  Conduction textbooks'
+    one-dimensional result with uniform generation.
+    """
+    return 2.0 * np.asarray(conductivity) * np.asarray(area) / np.asarray(thickness)
+
+
 THERMAL_MODELS = ("natural", "forced", "empirical")
+MOUNTINGS = ("board", "free")

@@ -6,7 +6,7 @@ from pymoo.core.duplicate import DuplicateElimination
 from pymoo.core.problem import Problem
 from pymoo.core.repair import Repair
 
-from fluxfront.design.evaluator import CONSTRAINTS, OBJECTIVES
+from fluxfront.design.evaluator import CONSTRAINTS, INDUCTOR_OBJECTIVES
 
 from .space import N_VAR, DesignSpace
 
@@ -15,7 +15,7 @@ class InductorProblem(Problem):
     """pymoo problem over the encoded design space; evaluation happens outside (ask/tell loop)."""
 
     def __init__(self, space: DesignSpace):
-        super().__init__(n_var=N_VAR, n_obj=len(OBJECTIVES), n_ieq_constr=len(CONSTRAINTS),
+        super().__init__(n_var=N_VAR, n_obj=len(INDUCTOR_OBJECTIVES), n_ieq_constr=len(CONSTRAINTS),
                          xl=space.lower, xu=space.upper)
         self.space = space
 

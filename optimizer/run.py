@@ -34,7 +34,7 @@ from tqdm import tqdm
 
 from fluxfront.catalog import Catalog, load_catalog
 from fluxfront.design.designs import Designs
-from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate, prepare
+from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate, objective_columns, prepare
 from fluxfront.design.spec import Spec, catalog_folders, load_spec
 from fluxfront.design.table import evaluation_frame
 
@@ -267,7 +267,7 @@ def _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet) 
         "start_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "settings": asdict(settings),
         "spec_file": str(spec_path), "design_space_size": space.size, "reference_point": reference.tolist(),
         "islands": [list(catalog.materials)[m] for m in space.materials],
-        "objectives": ["volume_cm3", "total_loss_w", "cost"], "stop_reason": None,
+        "objectives": list(ctx.objectives), "stop_reason": None,
     })
     state = State(new_algorithms(space, catalog, settings), ParetoArchive(space.lower.size, 3), reference)
     folder.save_checkpoint(state)
@@ -311,9 +311,9 @@ def _attach_log(folder: RunFolder) -> None:
     root.setLevel(logging.INFO)
 
 
-def representatives(front: pd.DataFrame) -> dict[str, int]:
+def representatives(front: pd.DataFrame, objectives) -> dict[str, int]:
     """Row numbers of the smallest, lightest, lowest-loss, cheapest and balanced (knee) designs."""
-    F = front[["volume_cm3", "total_loss_w", "cost"]].to_numpy()
+    F = front[list(objectives)].to_numpy()
     return {"smallest": int(np.argmin(F[:, 0])), "lightest": int(np.argmin(front["mass_g"].to_numpy())),
             "lowest loss": int(np.argmin(F[:, 1])),
             "cheapest": int(np.argmin(F[:, 2])), "balanced (knee)": knee_index(F)}
@@ -347,7 +347,7 @@ def summary_text(front: pd.DataFrame, state: State, spec: Spec) -> str:
         return no_feasible_text(state)
     lines = [f"Pareto front: {len(front)} feasible designs after {state.evaluations:,} evaluations "
              f"({state.generation} generations)."]
-    for label, i in representatives(front).items():
+    for label, i in representatives(front, objective_columns(spec)).items():
         r = front.iloc[i]
         gap = f"gap {r.gap_mm:g} mm" if r.gap_mm > 0 else "no gap"
         lines.append(f"  {label:16s} row {i:3d}: {r.volume_cm3:6.1f} cm3 {r.total_loss_w:6.2f} W cost {r.cost:6.2f}  "

@@ -15,6 +15,8 @@ Encoding (one row of X per design, all real numbers, rounded by ``decode``):
  5    parallel             1..parallel_max
  6    frequency            log10 of f_sw in Hz between the spec's limits (searched on a log
                            scale, rounded to f_sw_khz_step)
+ 7    gaps                 1..gaps_max discrete gaps per gapped leg; forced to 1 for
+                           distributed-gap materials
 ====  ===================  ===================================================================
 
 The search runs one island per material (``island``): each island encodes only that material's
@@ -35,7 +37,7 @@ from fluxfront.design.designs import Designs
 from fluxfront.design.spec import Spec
 from fluxfront.errors import InputError
 
-N_VAR = 7
+N_VAR = 8
 
 
 def _choose(requested: list[str], table: dict, kind: str) -> list[str]:
@@ -77,11 +79,11 @@ class DesignSpace:
         pm, ps = (np.array(v) for v in zip(*pairs))
         w_idx = np.array(sorted((catalog.wire_index(w) for w in wires),
                                 key=lambda i: catalog.wire_arrays["copper_area"][i]))
-        lo = np.array([0, 1, s.turns_min, s.gap_mm_min, 0, 1, np.log10(s.f_sw_khz_min * 1e3)], dtype=float)
+        lo = np.array([0, 1, s.turns_min, s.gap_mm_min, 0, 1, np.log10(s.f_sw_khz_min * 1e3), 1], dtype=float)
         hi = np.array([len(pairs) - 1, s.stack_max, s.turns_max, s.gap_mm_max, len(w_idx) - 1, s.parallel_max,
-                       np.log10(s.f_sw_khz_max * 1e3)], dtype=float)
+                       np.log10(s.f_sw_khz_max * 1e3), s.gaps_max], dtype=float)
         # integer variables span [k - 0.5, k + 0.5) so that every value is equally likely after rounding
-        for i in (0, 1, 2, 4, 5):
+        for i in (0, 1, 2, 4, 5, 7):
             lo[i] -= 0.499999
             hi[i] += 0.499999
         return cls(pm, ps, np.minimum(catalog.shape_arrays["max_stack"][ps], s.stack_max), w_idx, lo, hi,
@@ -91,7 +93,8 @@ class DesignSpace:
     def size(self) -> float:
         """Number of distinct designs (gap and frequency counted at their steps; an upper bound)."""
         span = np.round(self.upper - self.lower)
-        return float(span[0] * span[1] * span[2] * len(self.gap_values()) * span[4] * span[5] * len(self.f_values()))
+        return float(span[0] * span[1] * span[2] * len(self.gap_values()) * span[4] * span[5] * len(self.f_values())
+                     * span[7])
 
     def island(self, material_index: int, f_band_hz: tuple[float, float] | None = None) -> "DesignSpace":
         """The part of the space that uses one material (the search runs one island per material).
@@ -146,8 +149,9 @@ class DesignSpace:
         gap = np.where(self.distributed[pair], 0.0, gap_mm) * 1e-3
         f_sw = np.clip(np.round(np.round(10 ** x[:, 6] / self.f_step_hz) * self.f_step_hz, 3),
                        self.f_values()[0], self.f_values()[-1])
+        gaps = np.where(self.distributed[pair], 1.0, np.rint(x[:, 7]))
         return Designs(self.pair_material[pair], self.pair_shape[pair], stack, np.rint(x[:, 2]), gap,
-                       self.wires[np.rint(x[:, 4]).astype(int)], np.rint(x[:, 5]), f_sw)
+                       self.wires[np.rint(x[:, 4]).astype(int)], np.rint(x[:, 5]), f_sw, gaps)
 
     def canonical(self, x: np.ndarray) -> np.ndarray:
         """The encoded point of the design that ``x`` decodes to (repairs applied, bounds kept)."""
@@ -155,11 +159,11 @@ class DesignSpace:
         d = self.decode(x)
         pair = np.rint(x[:, 0])
         gap = np.where(self.distributed[pair.astype(int)], self.lower[3], d.gap * 1e3)
-        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.log10(d.f_sw)])
+        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.log10(d.f_sw), d.gaps])
 
-    def grid(self, gaps_mm=None, freqs_khz=None) -> np.ndarray:
-        """Every distinct design, as encoded rows (for enumeration); gaps and frequencies default to
-        every value the search can produce.  Gaps apply to discrete-gap materials only.
+    def grid(self, gaps_mm=None, freqs_khz=None, gap_counts=None) -> np.ndarray:
+        """Every distinct design, as encoded rows (for enumeration); gaps, frequencies and gap counts
+        default to every value the search can produce.  Gaps apply to discrete-gap materials only.
         """
         gaps_mm = self.gap_values() if gaps_mm is None else gaps_mm
         freqs_khz = self.f_values() / 1e3 if freqs_khz is None else freqs_khz
@@ -168,10 +172,13 @@ class DesignSpace:
         wires = np.arange(len(self.wires))
         par = np.arange(np.ceil(self.lower[5]), np.floor(self.upper[5]) + 1)
         logf = np.log10(np.asarray(freqs_khz, dtype=float) * 1e3)
+        counts = (np.arange(np.ceil(self.lower[7]), np.floor(self.upper[7]) + 1) if gap_counts is None
+                  else np.asarray(gap_counts, dtype=float))
         for p in range(len(self.pair_material)):
             gaps = [self.lower[3]] if self.distributed[p] else list(gaps_mm)
+            split = [1.0] if self.distributed[p] else counts
             stacks = np.arange(1, self.pair_max_stack[p] + 1)
-            mesh = np.meshgrid([p], stacks, turns, gaps, wires, par, logf, indexing="ij")
+            mesh = np.meshgrid([p], stacks, turns, gaps, wires, par, logf, split, indexing="ij")
             rows.append(np.column_stack([m.ravel() for m in mesh]))
         return self.canonical(np.vstack(rows))
 

@@ -110,16 +110,27 @@ def _core_and_gap(s: _Sheet) -> list:
     """Core set, material and how to make the gap."""
     f, d, mat, shape, fam, geo, distributed = s.f, s.d, s.mat, s.shape, s.fam, s.geo, s.distributed
     sections = []
-    gap = float(d["gap_mm"])
+    gap, gaps = float(d["gap_mm"]), int(d.get("gaps", 1))
+    each = gap / max(fam.gap_legs, 1) / gaps
+    keepout = s.ctx.spec.construction.gap_keepout_mm
     if distributed:
         gap_text = "No discrete gap: the powder material carries its gap distributed in the core."
-    elif fam.gap_legs == 2:
+    elif fam.gap_legs == 2 and gaps == 1:
         gap_text = (f"Total gap {gap:g} mm as two spacers of {gap / 2:g} mm, one in each joint of the cut core "
                     "(non-magnetic, non-conductive spacer material; band the core after gapping).")
-    else:
+    elif fam.gap_legs == 2:
+        gap_text = (f"Total gap {gap:g} mm split into {gaps} gaps of {_fmt(each, 3)} mm on each leg, evenly spaced "
+                    "along it: a leg made of cut segments with spacers between them (a custom core).")
+    elif gaps == 1:
         gap_text = (f"Total gap {gap:g} mm ground into the centre leg ({gap / 2:g} mm off each half's centre leg), "
                     f"or, as an alternative, a spacer of about {gap / 2:g} mm under all legs (the outer legs then "
                     "add their own gap; re-measure the inductance).")
+    else:
+        gap_text = (f"Total gap {gap:g} mm split into {gaps} gaps of {_fmt(each, 3)} mm evenly spaced along the "
+                    "centre leg (a stack of centre-leg pieces with spacers between them, inside the E or PQ outer "
+                    "legs): split gaps keep the fringing field, and the eddy loss it drives in the winding, small.")
+    if not distributed and keepout > 0:
+        gap_text += f" Keep the first layer {keepout:g} mm clear of the gapped leg beyond the bobbin wall."
     sections.append(("Core and gap", [
         ("table", ["item", "value"], [
             ["shape and size", f"{d['shape']} ({shape.family} family)"],
@@ -235,23 +246,29 @@ def _results(s: _Sheet) -> list:
     sections.append(("Losses", [
         ("p", "Weighted over the operating points (the loss objective); per point in the specification table."),
         ("table", ["part", "loss [W]"], [
-            ["core, switching-frequency ripple", _fmt(f["core_loss_w"] - f["core_line_loss_w"])],
+            ["core, switching-frequency ripple (DC bias included)", _fmt(f["core_loss_w"] - f["core_line_loss_w"])],
             ["core, line-frequency loop", _fmt(f["core_line_loss_w"])],
+            ["core, gap faces of a cut ribbon core", _fmt(f["core_gap_loss_w"])],
             ["winding, DC (line-frequency current)", _fmt(f["winding_dc_loss_w"])],
-            ["winding, AC (ripple harmonics)", _fmt(f["winding_ac_loss_w"])],
-            ["semiconductor switching (not in the inductor)", _fmt(f["switching_loss_w"])],
-            ["total", _fmt(f["total_loss_w"])],
+            ["winding, AC (ripple harmonics, one-dimensional field)", _fmt(f["winding_ac_loss_w"])],
+            ["winding, eddy loss in the gaps' fringing field", _fmt(f["winding_fringing_loss_w"])],
+            ["total, the inductor's own", _fmt(f["total_loss_w"])],
         ]),
+        ("p", f"Semiconductor switching loss (not in the inductor, from the spec's fit if given): "
+              f"{_fmt(f['switching_loss_w'])} W."),
     ]))
     sections.append(("Cost", [
-        ("table", ["part", "cost"], [["core", _fmt(f["cost_core"])], ["copper", _fmt(f["cost_copper"])],
-                                     ["winding labour", _fmt(f["cost_labour"])], ["parts and assembly", _fmt(f["cost_parts"])],
-                                     ["total", _fmt(f["cost"])]]),
+        ("table", ["part", "cost"], [["core", _fmt(f["cost_core"])], ["core work (gaps, cutting)",
+                                                                       _fmt(f["cost_core_work"])],
+                                     ["copper", _fmt(f["cost_copper"])], ["winding labour", _fmt(f["cost_labour"])],
+                                     ["parts and assembly", _fmt(f["cost_parts"])], ["total", _fmt(f["cost"])]]),
         ("p", "Representative prices from the catalog's costs.toml and materials.toml, not quotes."),
     ]))
     sections.append(("Temperature, mass, volume", [
         ("table", ["quantity", "value"], [
             ["hot spot, worst point", f"{_fmt(f['temperature_c'], 3)} C"],
+            ["winding hot spot, worst point", f"{_fmt(f['winding_temperature_c'], 3)} C"],
+            ["core hot spot, worst point", f"{_fmt(f['core_temperature_c'], 3)} C"],
             ["surface, worst point", f"{_fmt(f['surface_temperature_c'], 3)} C"],
             ["thermal runaway", _fmt(bool(f["thermal_runaway"]))],
             ["mass (core + copper)", f"{_fmt(f['mass_g'])} g"],
@@ -272,20 +289,30 @@ def _about(s: _Sheet) -> list:
         "Line-cycle waveforms of an ideal CCM boost PFC: Fundamentals of Power Electronics, 3rd ed., Springer 2020.",
         "Effective core parameters: IEC 60205; shape sizes after IEC 62317 naming.",
         f"Inductance: reluctance model; gap fringing '{spec.model.fringing}': Transformer and Inductor Design Handbook, 4th ed.",
-        "Core loss: iGSE per switching period (IEEE COMPEL 2002), Steinmetz parameters of the catalog; line-frequency "
-        "loop as a separate Steinmetz term; loss-temperature factor of the material.",
+        "Core loss: iGSE per switching period (IEEE COMPEL 2002), Steinmetz parameters of the catalog; DC-bias factor "
+        "1 + k (B_dc/B_sat)^2 by material class (trend of IEEE Trans. Power Electronics 27(2), 2012); line-frequency "
+        "loop as a separate Steinmetz term; loss-temperature factor of the material; cut ribbon cores: a cut factor "
+        "and the handbook gap loss K_i E l_g f B^2 (Transformer and Inductor Design Handbook).",
         "Winding loss: Dowell's factor over the ripple harmonics (Proc. IEE 113(8), 1966); litz at strand level with the "
-        "exact round-wire skin effect (IEEE Trans. Power Electronics 9(1), 1994); copper after IEC 60028; AWG after ASTM B258.",
-        f"Temperature: '{spec.thermal.model}' model (natural: Churchill-Chu vertical plate, Int. J. Heat Mass Transfer 18, "
-        "1975, plus radiation), losses re-evaluated at temperature until the heat balance converges.",
+        "exact round-wire skin effect (IEEE Trans. Power Electronics 9(1), 1994); eddy loss in the gaps' fringing "
+        "field from the two-dimensional gap field and the exact round-conductor transverse-field loss (IEEE Trans. "
+        "Magnetics 43(8), 2007); copper after IEC 60028; AWG after ASTM B258.",
+        f"Temperature: '{spec.thermal.model}' model, mounting '{spec.thermal.mounting}' (natural: Churchill-Chu on the "
+        "vertical sides, Int. J. Heat Mass Transfer 18, 1975, upper-surface correlation on top, plus radiation); "
+        "winding and core hot spots from a two-node conduction network; losses re-evaluated at temperature until "
+        "the heat balance converges.",
     ])]))
     sections.append(("Assumptions", [("ul", [
         "Catalog values are representative of the material class, not the data of the part you will buy: check the "
         "data sheet and re-evaluate with its numbers.",
         "Continuous conduction is assumed; near the zero crossings the converter may run discontinuous "
         f"({_fmt(f['dcm_fraction'], 2)} of the cycle here).",
-        "The iGSE ignores the DC bias of the flux; expect somewhat higher core loss, most of all in powder cores.",
-        f"Hot spot = surface temperature + {spec.thermal.internal_rise_k:g} K (lumped model).",
+        "The DC-bias factor is a class trend from memory, not a fit to this material's premagnetization data.",
+        "The fringing model is two-dimensional with ideal core faces; it is excess over an evenly spread gap and "
+        "ignores the window's own boundaries (within a few gap lengths of the gap it is the dominant term).",
+        ("Hot spots from a two-node winding-core network with conductivities from memory."
+         if spec.thermal.internal_rise_k is None else
+         f"Hot spot = surface temperature + {spec.thermal.internal_rise_k:g} K (fixed in the spec)."),
         "Geometry from principal dimensions (no chamfers or rounded edges).",
     ])]))
     sections.append(("Safety", [("p", SAFETY_NOTE), ("ul", [

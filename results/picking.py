@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from fluxfront.design.evaluator import OBJECTIVES
+from fluxfront.design.evaluator import INDUCTOR_OBJECTIVES
 from fluxfront.errors import InputError
 from fluxfront.optimizer.front import knee_index
 
@@ -12,7 +12,7 @@ PICK_RULES = ("knee", "volume", "loss", "cost")
 
 
 def pick_rows(front: pd.DataFrame, row=None, knee=False, max_volume_cm3=None, max_loss_w=None, max_cost=None,
-              by="knee") -> list[int]:
+              by="knee", objectives=INDUCTOR_OBJECTIVES) -> list[int]:
     """Row numbers of the front chosen by row, by knee, or by limits then the rule ``by``.
 
     ``by``: knee (balanced, see optimizer.front.knee_index), volume, loss or cost (smallest).
@@ -23,11 +23,11 @@ def pick_rows(front: pd.DataFrame, row=None, knee=False, max_volume_cm3=None, ma
         if not 0 <= row < len(front):
             raise InputError(f"--row = {row}: expected a row number from 0 to {len(front) - 1}")
         return [row]
-    objectives = front[list(OBJECTIVES)].to_numpy()
+    values = front[list(objectives)].to_numpy()
     if knee:
-        return [knee_index(objectives)]
+        return [knee_index(values)]
     ok = np.ones(len(front), dtype=bool)
-    for col, lim in (("volume_cm3", max_volume_cm3), ("total_loss_w", max_loss_w), ("cost", max_cost)):
+    for col, lim in zip(objectives, (max_volume_cm3, max_loss_w, max_cost)):
         if lim is not None:
             ok &= front[col].to_numpy() <= lim
     if not ok.any():
@@ -37,6 +37,6 @@ def pick_rows(front: pd.DataFrame, row=None, knee=False, max_volume_cm3=None, ma
                          f"{front.cost.min():.2f}-{front.cost.max():.2f}")
     idx = np.nonzero(ok)[0]
     if by == "knee":
-        return [int(idx[knee_index(objectives[idx])])]
+        return [int(idx[knee_index(values[idx])])]
     col = {"volume": 0, "loss": 1, "cost": 2}[by]
-    return [int(idx[np.argmin(objectives[idx, col])])]
+    return [int(idx[np.argmin(values[idx, col])])]

@@ -29,18 +29,25 @@ def summary_text(ctx: Context, ev: Evaluation, row: int = 0) -> str:
         f"({f['ripple_ratio']:.0%} of the line peak)",
         f"  peak flux {f['b_peak_t']:.3f} T against {f['b_sat_t']:.3f} T saturation at temperature "
         f"(ratio to the margin {f['saturation_ratio']:.2f}); ripple flux up to {f['b_ripple_pp_max_t'] * 1e3:.0f} mT pp",
-        f"  losses (weighted): core {f['core_loss_w']:.2f} W, winding DC {f['winding_dc_loss_w']:.2f} W, "
-        f"AC {f['winding_ac_loss_w']:.2f} W, switching {f['switching_loss_w']:.2f} W",
-        f"  hot spot {f['temperature_c']:.0f} C (worst point){', THERMAL RUNAWAY' if f['thermal_runaway'] else ''}; "
+        f"  inductor losses (weighted): core {f['core_loss_w']:.2f} W (DC-bias factor up to {f['core_bias_factor']:.2f}), "
+        f"cut-core gap {f['core_gap_loss_w']:.2f} W, winding DC {f['winding_dc_loss_w']:.2f} W, "
+        f"AC {f['winding_ac_loss_w']:.2f} W, gap fringing {f['winding_fringing_loss_w']:.2f} W",
+        f"  semiconductor switching loss (not the inductor's): {f['switching_loss_w']:.2f} W",
+        f"  at the current limit of {f['current_limit_a']:.1f} A: {f['b_at_current_limit_t']:.3f} T at the narrowest "
+        "section",
+        f"  hot spot {f['temperature_c']:.0f} C (worst point; winding {f['winding_temperature_c']:.0f} C, core "
+        f"{f['core_temperature_c']:.0f} C){', THERMAL RUNAWAY' if f['thermal_runaway'] else ''}; "
         f"fill {f['fill']:.2f}; {int(f['turns_per_layer'])} turns per layer, {int(f['layers'])} layers",
         f"  mass {f['mass_g']:.0f} g" + ("" if f["steinmetz_in_band"] else
-                                         "; core loss from a Steinmetz fit extrapolated beyond its frequency range"),
+                                         "; core loss from a Steinmetz fit extrapolated beyond its frequency range")
+        + ("" if f["steinmetz_in_range"] else "; ripple flux outside the Steinmetz fit's flux range"),
         "  per operating point:",
     ]
     for j, op in enumerate(ctx.ops):
         p = {k: v[row, j] for k, v in ev.per_op.items()}
-        lines.append(f"    {op.name}: loss {p['total_loss_w']:.2f} W (core {p['core_loss_w']:.2f}, "
-                     f"winding {p['winding_dc_loss_w'] + p['winding_ac_loss_w']:.2f}, switching {p['switching_loss_w']:.2f}), "
+        winding_loss = p["winding_dc_loss_w"] + p["winding_ac_loss_w"] + p["winding_fringing_loss_w"]
+        lines.append(f"    {op.name}: inductor loss {p['total_loss_w']:.2f} W (core "
+                     f"{p['core_loss_w'] + p['core_gap_loss_w']:.2f}, winding {winding_loss:.2f}), "
                      f"{p['temperature_c']:.0f} C, B peak {p['b_peak_t']:.3f} T, I peak {p['i_peak_a']:.2f} A")
     lines.append(SAFETY_NOTE)
     return "\n".join(lines)
@@ -62,14 +69,25 @@ def detail(ctx: Context, ev: Evaluation, row: int = 0) -> dict:
     mat = list(cat.materials.values())[int(d.material[0])]
     wire = list(cat.wires.values())[int(d.wire[0])]
     sf = mat.stacking_factor
+    spec = ctx.spec
+    shape = list(cat.shapes.values())[int(d.shape[0])]
+    family = cat.families[shape.family]
     out = {
         "design": ev.designs.to_frame(cat).iloc[row].to_dict(),
-        "objectives": dict(zip(("volume_cm3", "total_loss_w", "cost"), ev.objectives[row].tolist())),
+        "objectives": dict(zip(ctx.objectives, ev.objectives[row].tolist())),
         "feasible": bool(ev.feasible[row]),
         "constraints_normalized": dict(zip(CONSTRAINTS, ev.constraints[row].tolist())),
         "figures": {k: _plain(v[row]) for k, v in ev.figures.items()},
+        "inputs": {
+            "converter": spec.converter.model_dump(), "limits": spec.limits.model_dump(),
+            "thermal": spec.thermal.model_dump(), "construction": spec.construction.model_dump(),
+            "switching": spec.switching.model_dump(), "loss_objective": spec.search.loss_objective,
+        },
+        "shape": {"id": shape.id, "family": shape.family, "dims_mm": dict(shape.dims), "stack": int(d.stack[0]),
+                  **family.model_dump()},
         "core": {
             "le_mm": float(geo.le[0] * 1e3), "ae_mm2": float(geo.ae[0] * 1e6), "ve_cm3": float(geo.ve[0] * 1e6),
+            "a_min_mm2": float(geo.a_min[0] * 1e6), "core_box_mm": (geo.core_box[0] * 1e3).tolist(),
             "stacking_factor": sf, "magnetic_ae_mm2": float(geo.ae[0] * sf * 1e6),
             "gap_area_mm2": float(geo.gap_area[0] * 1e6), "window_area_mm2": float(geo.window_area[0] * 1e6),
             "window_breadth_mm": float(geo.window_breadth[0] * 1e3),
@@ -81,6 +99,7 @@ def detail(ctx: Context, ev: Evaluation, row: int = 0) -> dict:
         "wire": {k: _plain(v) for k, v in wire.__dict__.items()},
         "copper": cat.copper.model_dump(),
         "models": {"fringing": ctx.spec.model.fringing, "thermal": ctx.spec.thermal.model,
+                   "mounting": ctx.spec.thermal.mounting,
                    "samples_per_half_cycle": ctx.spec.model.samples_per_half_cycle,
                    "harmonics": ctx.spec.model.harmonics, "line_cycle_sampling": "quarter cycle, midpoints"},
         "operating_points": [],

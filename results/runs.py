@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from fluxfront.catalog import Catalog, load_catalog
-from fluxfront.design.evaluator import OBJECTIVES, Context, prepare
+from fluxfront.design.evaluator import INDUCTOR_OBJECTIVES, Context, objective_columns, prepare
 from fluxfront.design.spec import Spec, catalog_folders, load_spec
 from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
@@ -34,9 +34,9 @@ def load_run(run_dir, extra_catalogs=()) -> tuple[Spec, Catalog, Context, pd.Dat
     return spec, catalog, prepare(spec, catalog), front, history
 
 
-def front_knee(front: pd.DataFrame) -> int:
-    """Row of the front's balanced design (see optimizer.front.knee_index)."""
-    return knee_index(front[list(OBJECTIVES)].to_numpy())
+def front_knee(front: pd.DataFrame, spec: Spec) -> int:
+    """Row of the front's balanced design in the run's own objectives (see optimizer.front.knee_index)."""
+    return knee_index(front[list(objective_columns(spec))].to_numpy())
 
 
 def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
@@ -45,7 +45,8 @@ def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
     out = Path(run_dir) / "plots"
     paths = []
     if len(front):
-        paths += plots.save(plots.front_volume_loss(front, catalog, front_knee(front)), out, "front_volume_loss")
+        paths += plots.save(plots.front_volume_loss(front, catalog, front_knee(front, spec)), out,
+                            "front_volume_loss")
         paths += plots.save(plots.pairwise(front, catalog), out, "front_pairs")
         paths += plots.save(plots.frequency_along_front(front, catalog), out, "front_frequency")
     if history is not None and len(history):
@@ -55,15 +56,16 @@ def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
 
 def write_knee_sheet(run_dir) -> Path:
     """Build sheet of the front's balanced design; returns its folder."""
-    _, _, ctx, front, _ = load_run(run_dir)
-    return write_pick(run_dir, ctx, front, front_knee(front))
+    spec, _, ctx, front, _ = load_run(run_dir)
+    return write_pick(run_dir, ctx, front, front_knee(front, spec))
 
 
 def compare_runs(run_dirs, out) -> tuple[pd.DataFrame, np.ndarray, list[Path]]:
     """Overlay the fronts of several runs; hypervolumes against one common reference point.
 
-    The reference is 1.1 x the worst objective over all fronts. Returns the table, the reference
-    and the written files (plot and compare.csv in ``out``).
+    The reference is 1.1 x the worst objective over all fronts; the loss compared is the inductor's
+    own (``total_loss_w``), whatever each run minimised. Returns the table, the reference and the
+    written files (plot and compare.csv in ``out``).
     """
     if len(run_dirs) < 2:
         raise InputError("compare: expected at least two run folders")
@@ -76,7 +78,7 @@ def compare_runs(run_dirs, out) -> tuple[pd.DataFrame, np.ndarray, list[Path]]:
         if label in fronts:                      # two runs with the same folder name: tell them apart
             label = f"{label} ({len(fronts) + 1})"
         fronts[label] = pd.read_csv(path)
-    cols = list(OBJECTIVES)
+    cols = list(INDUCTOR_OBJECTIVES)
     stacked = np.vstack([f[cols].to_numpy() for f in fronts.values() if len(f)])
     reference = 1.1 * stacked.max(axis=0)
     table = pd.DataFrame([{"run": k, "front_size": len(f), "hypervolume": hypervolume(f[cols].to_numpy(), reference),

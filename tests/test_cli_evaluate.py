@@ -9,10 +9,12 @@ from fluxfront.design.spec import demo_spec_path
 
 ROW = "mnzn_ferrite_100k,ETD49,1,40,3.0,litz175x38awg,1,65\n"
 HEADER = "material,shape,stack,turns,gap_mm,wire,parallel,f_sw_khz\n"
-INTERFACE = ["material", "shape", "stack", "turns", "gap_mm", "wire", "parallel", "f_sw_khz", "volume_cm3",
-             "total_loss_w", "cost", "feasible", "inductance_uh", "inductance_at_peak_uh", "i_peak_a", "i_rms_a",
-             "ripple_pp_max_a", "b_peak_t", "b_sat_t", "b_ripple_pp_max_t", "core_loss_w", "winding_dc_loss_w",
-             "winding_ac_loss_w", "switching_loss_w", "temperature_c", "fill", "mass_g"]
+INTERFACE = ["material", "shape", "stack", "turns", "gap_mm", "gaps", "wire", "parallel", "f_sw_khz", "volume_cm3",
+             "total_loss_w", "system_loss_w", "cost", "feasible", "inductance_uh", "inductance_at_peak_uh", "i_peak_a",
+             "i_rms_a", "ripple_pp_max_a", "b_peak_t", "b_sat_t", "current_limit_a", "b_at_current_limit_t",
+             "b_ripple_pp_max_t", "core_loss_w", "core_gap_loss_w", "core_bias_factor", "winding_dc_loss_w",
+             "winding_ac_loss_w", "winding_fringing_loss_w", "switching_loss_w", "temperature_c",
+             "winding_temperature_c", "core_temperature_c", "fill", "height_mm", "mass_g"]
 
 
 def test_csv_in_csv_out(tmp_path, capsys):

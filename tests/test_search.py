@@ -94,7 +94,7 @@ def test_pareto_rows_feasible_non_dominated_and_reproducible(small_run, tmp_path
     assert len(front) > 0 and front["feasible"].all()
     F = front[["volume_cm3", "total_loss_w", "cost"]].to_numpy()
     assert len(non_dominated(F)) == len(F)
-    design_cols = ["material", "shape", "stack", "turns", "gap_mm", "wire", "parallel", "f_sw_khz"]
+    design_cols = ["material", "shape", "stack", "turns", "gap_mm", "gaps", "wire", "parallel", "f_sw_khz"]
     front[design_cols].to_csv(tmp_path / "rows.csv", index=False)
     assert main(["evaluate", str(small_run / "spec.toml"), str(tmp_path / "rows.csv"), "--out",
                  str(tmp_path / "again.csv")]) == 0
