@@ -153,8 +153,9 @@ def cmd_demo(args) -> int:
     if outcome.front_size > 0:
         for path in write_plots(outcome.folder):
             print(f"plot: {path}")
-        folder = write_knee_sheet(outcome.folder)
-        print(f"build sheet of the balanced design: {folder / 'build_sheet.html'} (and build_sheet.md)")
+        pick = write_knee_sheet(outcome.folder)
+        print(f"build sheet of the balanced design: {pick.folder / 'build_sheet.html'} (and build_sheet.md)")
+        print(_pick_line(pick))
     return code
 
 
@@ -175,11 +176,22 @@ def cmd_pick(args) -> int:
                      max_loss_w=args.max_loss_w, max_cost=args.max_cost, by=args.by,
                      objectives=objective_columns(spec))
     for row in rows:
-        folder = write_pick(args.run_dir, ctx, front, row)
+        pick = write_pick(args.run_dir, ctx, front, row)
         r = front.iloc[row]
-        print(f"row {row}: {r.volume_cm3:.1f} cm3, {r.total_loss_w:.2f} W, cost {r.cost:.2f} -> "
-              f"{folder / 'build_sheet.html'}")
+        print(f"row {row}: {r.volume_cm3:.1f} cm3, inductor loss {r.total_loss_w:.2f} W, cost {r.cost:.2f} -> "
+              f"{pick.folder / 'build_sheet.html'}")
+        print(_pick_line(pick))
     return 0
+
+
+def _pick_line(pick) -> str:
+    """Robustness and yield of a pick in a few lines: the margin of every limit at its worst corner."""
+    y = pick.yield_estimate
+    margins = ", ".join(f"{k} {-v:+.0%}" for k, v in pick.worst_margin.items())
+    state = "robust: every limit met at every tolerance corner" if pick.robust else "NOT ROBUST: fails a corner"
+    most = f"; fails most: {y.most_failing} ({y.failing[y.most_failing]:.1%})" if y.most_failing else ""
+    return (f"  {state}\n  margin at the worst corner (negative = violated): {margins}\n"
+            f"  yield {y.share:.1%} of {y.samples} Monte Carlo parts (seed {y.seed}){most}")
 
 
 def cmd_flux_map(args) -> int:

@@ -35,7 +35,7 @@ class Circuit:
     band: np.ndarray          # Steinmetz band at the switching frequency
     in_band: np.ndarray       # the switching frequency lies in that band's range (bool)
     hf_scale: np.ndarray      # k_i f^alpha (N Ae f)^-beta Ve (x cut factor): times an op's core_shape, the iGSE loss [W]
-    loss_scale: np.ndarray    # cut-core loss factor (1 for uncut cores)
+    loss_scale: np.ndarray    # cut-core loss factor (1 for uncut cores) times the part's own k deviation
     bias_k: np.ndarray        # DC-bias loss coefficient of the material
     b_sat_ref: np.ndarray     # saturation flux density the bias is measured against [T]
 
@@ -78,7 +78,7 @@ def circuit(ctx: Context, d: Designs, b: Build) -> Circuit:
     gap_total = d.gap + np.where(M.tape_wound[m], M.cut_residual_gap[m] * legs, 0.0)
     each = np.where(gap_total > 0, gap_total, 1e-9) / (legs * d.gaps)
     fringe = np.where(dist | (gap_total <= 0), 1.0, ctx.fringing(each, gap_area, geo.gap_window_height / d.gaps))
-    mu = M.mu_initial[m]
+    mu = M.mu_initial[m] * d.mu_factor
     l0 = np.where(dist, magnetics.powder_inductance(N, geo.le, b.ae, mu),
                   magnetics.gapped_inductance(N, geo.le, b.ae, mu, gap_total, gap_area, fringe))
     r_core = magnetics.reluctance(geo.le, b.ae, mu)
@@ -86,7 +86,7 @@ def circuit(ctx: Context, d: Designs, b: Build) -> Circuit:
     share = np.where(dist, 0.0, r_gap / (r_gap + r_core))
     band, in_band = core_loss.select_band(f, M.band_f_min[m], M.band_f_max[m])
     k_i, alpha, beta = ctx.band_ki[m, band], M.band_alpha[m, band], M.band_beta[m, band]
-    scale = M.cut_loss_factor[m]
+    scale = M.cut_loss_factor[m] * d.k_factor
     return Circuit(
         distributed=dist, powder=np.nonzero(dist)[0], fringe=fringe, gap_total=np.where(dist, 0.0, gap_total),
         gap_share=share, section_ratio=b.ae / (geo.a_min * M.stacking_factor[m]), l0=l0, turns=N, ae=b.ae,

@@ -36,16 +36,33 @@ class Designs:
     parallel: np.ndarray   # wires in hand [-]
     f_sw: np.ndarray       # switching frequency [Hz]
     gaps: np.ndarray       # discrete gaps per gapped leg [-]
+    # as-built deviations of one part from its catalog material (tolerance studies); None = none
+    mu_scale: np.ndarray | None = None   # permeability over the catalog's
+    k_scale: np.ndarray | None = None    # Steinmetz k over the catalog's
 
     def __len__(self) -> int:
         return len(self.turns)
 
+    @property
+    def mu_factor(self) -> np.ndarray:
+        return np.ones(len(self)) if self.mu_scale is None else self.mu_scale
+
+    @property
+    def k_factor(self) -> np.ndarray:
+        return np.ones(len(self)) if self.k_scale is None else self.k_scale
+
     @classmethod
     def concat(cls, parts: list["Designs"]) -> "Designs":
-        return cls(*(np.concatenate([getattr(p, f) for p in parts]) for f in cls.__dataclass_fields__))
+        def joined(name):
+            values = [getattr(p, name) for p in parts]
+            if all(v is None for v in values):
+                return None
+            return np.concatenate([np.ones(len(p)) if v is None else v for p, v in zip(parts, values)])
+        return cls(**{f: joined(f) for f in cls.__dataclass_fields__})
 
     def take(self, index) -> "Designs":
-        return Designs(*(getattr(self, f)[index] for f in self.__dataclass_fields__))
+        return Designs(**{f: None if getattr(self, f) is None else getattr(self, f)[index]
+                          for f in self.__dataclass_fields__})
 
     def to_frame(self, catalog: Catalog) -> pd.DataFrame:
         """The rows with catalog ids and engineering units (the interface columns)."""

@@ -73,6 +73,28 @@ class Thermal(_Section):
     bobbin_conductivity_w_mk: Annotated[float, Field(gt=0, le=400)] = 0.25
 
 
+class Tolerance(_Section):
+    """Manufacturing and operating tolerances the design must survive (off: the search is nominal).
+
+    Defaults: gap +-0.02 mm or +-5 % per ground gap, whichever is larger (grinding practice, from
+    memory); permeability +-8 % (powder cores, common practice); Steinmetz k +25 % (lot-to-lot
+    spread of ferrite, from memory); ambient +5 K and the line 5 % below every operating point's
+    voltage (common practice, no source).
+    """
+
+    enabled: bool = False
+    gap_mm: Annotated[float, Field(ge=0, le=1)] = 0.02
+    gap_percent: Annotated[float, Field(ge=0, le=50)] = 5.0
+    permeability_percent: Annotated[float, Field(ge=0, le=50)] = 8.0
+    steinmetz_k_percent: Annotated[float, Field(ge=0, le=200)] = 25.0
+    ambient_k: Annotated[float, Field(ge=0, le=50)] = 5.0
+    line_sag: Annotated[float, Field(gt=0.5, le=1)] = 0.95
+    distribution: Literal["uniform", "normal"] = "uniform"   # Monte Carlo; normal: tolerance = 3 sigma
+    objectives: Literal["nominal", "worst"] = "nominal"      # objectives at nominal, or the worst corner
+    corners: Literal["selected", "all"] = "selected"          # the monotonic worst corners, or all 2^5
+    yield_samples: Annotated[int, Field(ge=100, le=100000)] = 2000
+
+
 class Construction(_Section):
     # extra distance between a gapped leg and the first layer, beyond the bobbin wall
     gap_keepout_mm: Annotated[float, Field(ge=0, le=20)] = 0.0
@@ -125,6 +147,7 @@ class Spec(_Section):
     thermal: Thermal
     switching: Switching = Field(default_factory=lambda: Switching(enabled=False))
     construction: Construction = Field(default_factory=Construction)
+    tolerance: Tolerance = Field(default_factory=Tolerance)
     model: ModelOptions = Field(default_factory=ModelOptions)
     search: Search = Field(default_factory=Search)
     catalog: list[str] = Field(default_factory=list)

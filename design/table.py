@@ -21,6 +21,7 @@ KEY_FIGURES = (
     "core_bias_factor", "winding_dc_loss_w", "winding_ac_loss_w", "winding_fringing_loss_w", "switching_loss_w",
     "temperature_c", "winding_temperature_c", "core_temperature_c", "fill", "height_mm", "mass_g",
 )
+TOLERANCE_COLUMNS = ("robust", "worst_margin", "worst_limit", "worst_corner")   # present in robust runs
 RAW_LIMIT_VALUES = ("saturation_ratio", "ripple_ratio", "inductance_kept_fraction", "winding_fit",
                     "dcm_fraction", "thermal_runaway", "steinmetz_in_band", "steinmetz_in_range",
                     "b_ripple_amplitude_t")
@@ -34,6 +35,11 @@ def evaluation_frame(ev: Evaluation, catalog: Catalog) -> pd.DataFrame:
     df["feasible"] = ev.feasible
     for k in KEY_FIGURES + RAW_LIMIT_VALUES:
         df[k] = ev.figures[k]
+    for k in TOLERANCE_COLUMNS:
+        if k in ev.figures:
+            df[k] = ev.figures[k]
     for i, name in enumerate(CONSTRAINTS):
-        df[f"g_{name}"] = ev.constraints[:, i]
+        df[f"g_{name}"] = ev.constraints[:, i]      # in a robust run: at the constraint's worst corner
+        if f"nominal_g_{name}" in ev.figures:
+            df[f"nominal_g_{name}"] = ev.figures[f"nominal_g_{name}"]
     return df

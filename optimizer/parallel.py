@@ -12,15 +12,17 @@ import contextlib
 import numpy as np
 from joblib import Parallel, cpu_count, delayed, parallel_config
 
+from fluxfront.design.context import Context
 from fluxfront.design.designs import Designs
-from fluxfront.design.evaluator import Context, Evaluation, concat_evaluations, evaluate
+from fluxfront.design.evaluator import Evaluation, concat_evaluations
+from fluxfront.design.tolerance import TolerantContext, evaluate_tolerant, tolerant_context
 from fluxfront.errors import InputError
 
 MIN_CHUNK = 2000  # about 40 ms of evaluation on one core: below that, process start-up and pickling dominate
 
 
-def _evaluate_part(ctx: Context, designs: Designs) -> Evaluation:
-    return evaluate(ctx, designs)
+def _evaluate_part(ctx: TolerantContext, designs: Designs) -> Evaluation:
+    return evaluate_tolerant(ctx, designs)
 
 
 class PopulationEvaluator:
@@ -28,14 +30,16 @@ class PopulationEvaluator:
 
     Parameters
     ----------
-    ctx : prepared evaluation context
+    ctx : prepared evaluation context with its tolerance corners (one batch per corner)
     jobs : worker processes (-1: all cores)
     scheduler : None, "local" (start a local Dask cluster) or a Dask scheduler address
     min_chunk : smallest chunk worth sending to a worker
     """
 
-    def __init__(self, ctx: Context, jobs: int = -1, scheduler: str | None = None, min_chunk: int = MIN_CHUNK):
-        self.ctx, self.jobs, self.scheduler, self.min_chunk = ctx, jobs, scheduler, min_chunk
+    def __init__(self, ctx: TolerantContext | Context, jobs: int = -1, scheduler: str | None = None,
+                 min_chunk: int = MIN_CHUNK):
+        self.ctx = ctx if isinstance(ctx, TolerantContext) else tolerant_context(ctx)
+        self.jobs, self.scheduler, self.min_chunk = jobs, scheduler, min_chunk
         self._client = None
         self._stack = contextlib.ExitStack()
         self._parallel = None
@@ -78,7 +82,7 @@ class PopulationEvaluator:
         n = len(designs)
         chunks = int(min(self.workers, max(n // self.min_chunk, 1)))
         if chunks <= 1 or self._parallel is None:
-            return evaluate(self.ctx, designs)
+            return evaluate_tolerant(self.ctx, designs)
         edges = np.linspace(0, n, chunks + 1).astype(int)
         parts = self._parallel(delayed(_evaluate_part)(self.ctx, designs.take(slice(a, b)))
                                for a, b in zip(edges[:-1], edges[1:]))

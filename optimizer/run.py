@@ -34,9 +34,10 @@ from tqdm import tqdm
 
 from fluxfront.catalog import Catalog, load_catalog
 from fluxfront.design.designs import Designs
-from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate, objective_columns, prepare
+from fluxfront.design.evaluator import CONSTRAINTS, objective_columns, prepare
 from fluxfront.design.spec import Spec, catalog_folders, load_spec
 from fluxfront.design.table import evaluation_frame
+from fluxfront.design.tolerance import TolerantContext, evaluate_tolerant, tolerant_context
 
 from .front import ParetoArchive, hypervolume, knee_index
 from .parallel import MIN_CHUNK, PopulationEvaluator
@@ -93,13 +94,13 @@ class Outcome:
     summary: str
 
 
-def reference_point(ctx: Context, space: DesignSpace, seed: int) -> np.ndarray:
+def reference_point(ctx: TolerantContext, space: DesignSpace, seed: int) -> np.ndarray:
     """Hypervolume reference fixed for the run: 1.1 x the worst feasible objectives of a seeded sample.
 
     With fewer than ten feasible designs in the sample, the 95th percentile of all its designs is used.
     """
     x = space.sample(np.random.default_rng([seed, 1]), REFERENCE_SAMPLE)
-    ev = evaluate(ctx, space.decode(x))
+    ev = evaluate_tolerant(ctx, space.decode(x))
     F = ev.objectives[ev.feasible] if ev.feasible.sum() >= 10 else ev.objectives
     worst = F.max(axis=0) if ev.feasible.sum() >= 10 else np.percentile(F, 95, axis=0)
     return 1.1 * worst
@@ -148,12 +149,12 @@ def _stop_reason(state: State, settings: Settings) -> str | None:
     return None
 
 
-def pareto_frame(ctx: Context, space: DesignSpace, archive: ParetoArchive) -> pd.DataFrame:
+def pareto_frame(ctx: TolerantContext, space: DesignSpace, archive: ParetoArchive) -> pd.DataFrame:
     """The archive evaluated again for its full table (same columns as `fluxfront evaluate`)."""
     if len(archive) == 0:
-        return evaluation_frame(evaluate(ctx, space.decode(space.sample(np.random.default_rng(0), 1))),
+        return evaluation_frame(evaluate_tolerant(ctx, space.decode(space.sample(np.random.default_rng(0), 1))),
                                 ctx.catalog).iloc[0:0]
-    return evaluation_frame(evaluate(ctx, space.decode(archive.X)), ctx.catalog)
+    return evaluation_frame(evaluate_tolerant(ctx, space.decode(archive.X)), ctx.catalog)
 
 
 def _one_generation(state: State, space: DesignSpace, evaluator: PopulationEvaluator):
@@ -182,7 +183,7 @@ def _progress(quiet: bool, settings: Settings, state: State):
     return tqdm(total=total, initial=state.generation, unit="gen", dynamic_ncols=True, leave=True)
 
 
-def search(ctx: Context, space: DesignSpace, folder: RunFolder, settings: Settings, state: State,
+def search(ctx: TolerantContext, space: DesignSpace, folder: RunFolder, settings: Settings, state: State,
            evaluator: PopulationEvaluator, quiet: bool = False) -> Outcome:
     """Run generations until a stop rule holds; write the run folder as it goes."""
     meta = folder.read_json("run.json")
@@ -249,7 +250,7 @@ def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings
     The workers (or the cluster connection) come first so that a scheduler that cannot be reached
     stops the command before anything is written.
     """
-    ctx = prepare(spec, catalog)
+    ctx = tolerant_context(prepare(spec, catalog))
     space = DesignSpace.from_spec(spec, catalog)
     with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
         return _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet)
@@ -268,6 +269,7 @@ def _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet) 
         "spec_file": str(spec_path), "design_space_size": space.size, "reference_point": reference.tolist(),
         "islands": [list(catalog.materials)[m] for m in space.materials],
         "objectives": list(ctx.objectives), "stop_reason": None,
+        "tolerance_corners": [c.name for c in ctx.corners],
     })
     state = State(new_algorithms(space, catalog, settings), ParetoArchive(space.lower.size, 3), reference)
     folder.save_checkpoint(state)
@@ -294,7 +296,7 @@ def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generation
     meta["settings"] = asdict(settings)
     folder.write_json("run.json", meta)
     log.info("resumed at generation %d", state.generation)
-    ctx = prepare(spec, catalog)
+    ctx = tolerant_context(prepare(spec, catalog))
     with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
         return search(ctx, DesignSpace.from_spec(spec, catalog), folder, settings, state, evaluator, quiet)
 
@@ -343,13 +345,25 @@ def no_feasible_text(state: State) -> str:
 
 
 def summary_text(front: pd.DataFrame, state: State, spec: Spec) -> str:
+    """The end-of-run summary: the representative designs, each once, with the figures that matter."""
     if len(front) == 0:
         return no_feasible_text(state)
     lines = [f"Pareto front: {len(front)} feasible designs after {state.evaluations:,} evaluations "
              f"({state.generation} generations)."]
+    if "robust" in front:
+        lines.append(f"Every limit checked at its worst tolerance corner: {int(front['robust'].sum())} of "
+                     f"{len(front)} designs robust.")
+    rows: dict[int, list[str]] = {}
     for label, i in representatives(front, objective_columns(spec)).items():
+        rows.setdefault(i, []).append(label)
+    for i, labels in rows.items():
         r = front.iloc[i]
-        gap = f"gap {r.gap_mm:g} mm" if r.gap_mm > 0 else "no gap"
-        lines.append(f"  {label:16s} row {i:3d}: {r.volume_cm3:6.1f} cm3 {r.total_loss_w:6.2f} W cost {r.cost:6.2f}  "
-                     f"{r.material} {r.stack}x{r['shape']} N={r.turns} {gap} {r.parallel}x{r.wire} {r.f_sw_khz:g} kHz")
+        gap = f"gap {r.gap_mm:g} mm" + (f" in {int(r.gaps)}" if r.get("gaps", 1) > 1 else "") if r.gap_mm > 0 \
+            else "no gap"
+        lines.append(f"  {' / '.join(labels)} (row {i}): {r.material} {r.stack}x{r['shape']} N={r.turns} {gap} "
+                     f"{r.parallel}x{r.wire} {r.f_sw_khz:g} kHz")
+        margin = f", worst-corner margin {-r.worst_margin:.0%} ({r.worst_limit})" if "worst_margin" in r else ""
+        lines.append(f"      {r.volume_cm3:.1f} cm3, inductor loss {r.total_loss_w:.2f} W, cost {r.cost:.2f}, "
+                     f"{r.inductance_uh:.0f} uH, B peak {r.b_peak_t:.3f} of {r.b_sat_t:.3f} T, "
+                     f"hot spot {r.temperature_c:.0f} C{margin}")
     return "\n".join(lines)

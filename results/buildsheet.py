@@ -14,8 +14,9 @@ import pandas as pd
 
 from fluxfront.catalog import Catalog
 from fluxfront.design.designs import DESIGN_COLUMNS, resolve_designs
-from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate, prepare
+from fluxfront.design.evaluator import CONSTRAINTS, Context, evaluate
 from fluxfront.design.table import evaluation_frame
+from fluxfront.design.tolerance import YieldEstimate, evaluate_corners, monte_carlo_yield, tolerant_context
 from fluxfront.files import write_atomic
 from fluxfront.models import magnetics
 
@@ -34,24 +35,17 @@ def _fmt(x, digits=4):
     return str(x)
 
 
-def _tolerance_rows(ctx: Context, design_row: pd.DataFrame, distributed: bool) -> list[list[str]]:
-    """Inductance, peak flux and largest ripple with the gap (or permeability) 10 % off nominal."""
+def _corner_rows(evs, corners) -> list[list[str]]:
+    """One row per tolerance corner: inductance, peak flux, ripple, hot spot and the limits it breaks."""
+    base = evs[0]
     rows = []
-    base = evaluate(ctx, resolve_designs(design_row, ctx.catalog))
-    for factor in (0.9, 1.1):
-        if distributed:
-            cat = ctx.catalog.with_permeability_scaled(factor)
-            ev = evaluate(prepare(ctx.spec, cat), resolve_designs(design_row, cat))
-            label = f"permeability x {factor:g}"
-        else:
-            varied = design_row.assign(gap_mm=design_row["gap_mm"] * factor)
-            ev = evaluate(ctx, resolve_designs(varied, ctx.catalog))
-            label = f"gap x {factor:g}"
-        row = [label]
+    for c, ev in zip(corners, evs):
+        row = [c.name]
         for key in ("inductance_uh", "b_peak_t", "ripple_pp_max_a"):
             v, v0 = ev.figures[key][0], base.figures[key][0]
-            row.append(f"{_fmt(v)} ({100 * (v / v0 - 1):+.1f} %)")
-        row.append("yes" if ev.feasible[0] else "no: " + ", ".join(
+            row.append(f"{_fmt(v, 3)} ({100 * (v / v0 - 1):+.1f} %)")
+        row.append(_fmt(ev.figures["temperature_c"][0], 3))
+        row.append("yes" if ev.feasible[0] else "NO: " + ", ".join(
             n.replace("_", " ") for n, g in zip(CONSTRAINTS, ev.constraints[0], strict=True) if g > 0))
         rows.append(row)
     return rows
@@ -72,6 +66,9 @@ class _Sheet:
     fam: object
     geo: object
     distributed: bool
+    corners: tuple          # tolerance corners, nominal first
+    corner_evaluations: list
+    yield_estimate: YieldEstimate
 
 
 def _evaluated(ctx: Context, design_row: pd.DataFrame) -> _Sheet:
@@ -81,9 +78,11 @@ def _evaluated(ctx: Context, design_row: pd.DataFrame) -> _Sheet:
     d = design_row.iloc[0]
     mat = cat.materials[d["material"]]
     shape = cat.shapes[d["shape"]]
+    tc = tolerant_context(ctx, always=True)
     return _Sheet(ctx, design_row, ev, evaluation_frame(ev, cat).iloc[0], {k: v[0] for k, v in ev.figures.items()}, d,
                   mat, shape, cat.families[shape.family], cat.core_geometry(designs.shape, designs.stack),
-                  mat.gap_kind == "distributed")
+                  mat.gap_kind == "distributed", tc.corners, evaluate_corners(tc, designs),
+                  monte_carlo_yield(ctx, designs))
 
 
 def _specification(s: _Sheet) -> list:
@@ -210,17 +209,22 @@ def _inductance(s: _Sheet) -> list:
 
 
 def _tolerances(s: _Sheet) -> list:
-    """The gap (or permeability) off nominal."""
-    ctx, distributed = s.ctx, s.distributed
-    sections = []
-    sections.append(("Tolerances", [
-        ("p", "How a ±10 % error of the " + ("permeability" if distributed else "gap") +
-              " moves the inductance, the peak flux and the ripple (re-evaluated with the same models):"),
-        ("table", ["case", "inductance [µH]", "peak flux [T]", "largest ripple [A]", "still feasible"],
-         _tolerance_rows(ctx, s.design_row, distributed)),
-    ]))
-
-    return sections
+    """Every tolerance corner of the design, and its Monte Carlo yield."""
+    tol = s.ctx.spec.tolerance
+    y = s.yield_estimate
+    failing = ", ".join(f"{k.replace('_', ' ')} {v:.1%}" for k, v in sorted(s.yield_estimate.failing.items(),
+                                                                        key=lambda kv: -kv[1]) if v > 0)
+    return [("Tolerances", [
+        ("p", f"Each corner re-evaluates the design with the gap off by max({tol.gap_mm:g} mm, {tol.gap_percent:g} %) "
+              f"per ground gap, the permeability by ±{tol.permeability_percent:g} %, the Steinmetz k up to "
+              f"+{tol.steinmetz_k_percent:g} %, the ambient up to +{tol.ambient_k:g} K and the line down to "
+              f"{tol.line_sag:g} of each operating point (spec [tolerance]); the corners are where each limit is "
+              "at its worst (design/tolerance.py)."),
+        ("table", ["corner", "inductance [µH]", "peak flux [T]", "largest ripple [A]", "hot spot [C]", "meets every limit"],
+         _corner_rows(s.corner_evaluations, s.corners)),
+        ("p", f"Yield: {y.share:.1%} of {y.samples} parts drawn from {tol.distribution} tolerance distributions (seed "
+              f"{y.seed}) meet every limit" + (f"; failing: {failing}." if failing else ".")),
+    ])]
 
 
 def _line_cycle(s: _Sheet) -> list:
@@ -328,19 +332,43 @@ def _about(s: _Sheet) -> list:
 SECTIONS = (_specification, _core_and_gap, _winding, _inductance, _tolerances, _line_cycle, _results, _about)
 
 
+def _status(s: _Sheet) -> list:
+    """A banner above everything when the design fails a limit, nominally or at a tolerance corner."""
+    failed = [(c.name, n) for c, ev in zip(s.corners, s.corner_evaluations)
+              for n, g in zip(CONSTRAINTS, ev.constraints[0], strict=True) if g > 0]
+    if not failed:
+        return []
+    nominal = [n for c, n in failed if c == s.corners[0].name]
+    text = ("NOT FEASIBLE at nominal values: " + ", ".join(n.replace("_", " ") for n in nominal) if nominal else
+            f"Meets every limit at nominal values but FAILS at {len({c for c, _ in failed})} tolerance corner(s) "
+            f"({', '.join(sorted({n.replace('_', ' ') for _, n in failed}))}); yield {s.yield_estimate.share:.1%}. "
+            "A prototype built from this sheet may not meet its limits.")
+    return [("Status", [("banner", text)])]
+
+
+@dataclass(frozen=True)
+class Pick:
+    """What a pick wrote and what the engineer should know at once."""
+
+    folder: Path
+    robust: bool                     # every limit met at every tolerance corner
+    worst_margin: dict[str, float]   # per limit: the largest normalized constraint over the corners
+    yield_estimate: YieldEstimate
+
+
 def build_sheet_content(ctx: Context, design_row: pd.DataFrame, title: str):
-    """Sections of the build sheet for one design (a one-row frame of design columns)."""
+    """Sections of the build sheet for one design (a one-row frame of design columns), and the sheet."""
     sheet = _evaluated(ctx, design_row)
-    return title, [section for make in SECTIONS for section in make(sheet)], sheet.table
+    return title, [section for make in (_status,) + SECTIONS for section in make(sheet)], sheet
 
 
-def write_pick(run_dir: Path, ctx: Context, front: pd.DataFrame, row: int) -> Path:
+def write_pick(run_dir: Path, ctx: Context, front: pd.DataFrame, row: int) -> Pick:
     """Write RUN_DIR/picks/row<N>/ with build_sheet.html, build_sheet.md and its PNG figures."""
     design = front.iloc[[row]][list(DESIGN_COLUMNS)].reset_index(drop=True)
     d = design.iloc[0]
     title = (f"Build sheet: {d['material']} {int(d['stack'])}x{d['shape']}, "
              f"{int(d['turns'])} turns, {d['f_sw_khz']:g} kHz (front row {row})")
-    title, sections, _ = build_sheet_content(ctx, design, title)
+    title, sections, sheet = build_sheet_content(ctx, design, title)
     folder = Path(run_dir) / "picks" / f"row{row:03d}"
     write_atomic(folder / "build_sheet.html", render_html(title, sections))
     md, figs = render_markdown(title, sections)
@@ -348,4 +376,5 @@ def write_pick(run_dir: Path, ctx: Context, front: pd.DataFrame, row: int) -> Pa
         write_atomic(folder / f"{fig.name}.png", fig.png)
     write_atomic(folder / "build_sheet.md", md + "\n")
     write_atomic(folder / "design.csv", design.to_csv(index=False))
-    return folder
+    g = np.stack([ev.constraints[0] for ev in sheet.corner_evaluations])
+    return Pick(folder, bool(np.all(g <= 0)), dict(zip(CONSTRAINTS, g.max(axis=0).tolist())), sheet.yield_estimate)

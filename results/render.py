@@ -1,6 +1,6 @@
 """Rendering a build sheet: sections of blocks to self-contained HTML and to Markdown with PNG files.
 
-A section is ``(title, blocks)``; a block is ``("p", text)``, ``("ul", items)``,
+A section is ``(title, blocks)``; a block is ``("p", text)``, ``("banner", warning)``, ``("ul", items)``,
 ``("table", header, rows)``, ``("keytable", rows)`` or ``("img", Figure)``.  The HTML embeds the
 figures as data URIs (opens offline, no links out).
 """
@@ -37,7 +37,8 @@ def figure_png(fig, name, caption) -> Figure:
 CSS = """body{font-family:sans-serif;max-width:60em;margin:2em auto;padding:0 1em;color:#222;line-height:1.45}
 table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #bbb;padding:.25em .6em;text-align:left}
 th{background:#eee}img{max-width:100%}h2{border-bottom:2px solid #ccc;margin-top:1.6em}
-figcaption{font-size:.9em;color:#555}.caution{background:#fff4e5;border-left:4px solid #e69500;padding:.5em 1em}"""
+figcaption{font-size:.9em;color:#555}.caution{background:#fff4e5;border-left:4px solid #e69500;padding:.5em 1em}
+.banner{background:#fde2e1;border:2px solid #c0392b;color:#7b1a12;padding:.6em 1em;font-weight:bold}"""
 
 
 def render_html(title: str, sections) -> str:
@@ -50,6 +51,8 @@ def render_html(title: str, sections) -> str:
             kind = block[0]
             if kind == "p":
                 out.append(f"<p>{html.escape(block[1])}</p>")
+            elif kind == "banner":
+                out.append(f"<p class='banner' role='alert'>{html.escape(block[1])}</p>")
             elif kind == "ul":
                 out.append("<ul>" + "".join(f"<li>{html.escape(x)}</li>" for x in block[1]) + "</ul>")
             elif kind == "table":
@@ -83,6 +86,8 @@ def render_markdown(title: str, sections) -> tuple[str, list]:
             kind = block[0]
             if kind == "p":
                 out += [block[1], ""]
+            elif kind == "banner":
+                out += [f"> **WARNING: {block[1]}**", ""]
             elif kind == "ul":
                 out += [f"- {x}" for x in block[1]] + [""]
             elif kind in ("table", "keytable"):

@@ -54,8 +54,8 @@ def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
     return paths
 
 
-def write_knee_sheet(run_dir) -> Path:
-    """Build sheet of the front's balanced design; returns its folder."""
+def write_knee_sheet(run_dir):
+    """Build sheet of the front's balanced design; returns the Pick."""
     spec, _, ctx, front, _ = load_run(run_dir)
     return write_pick(run_dir, ctx, front, front_knee(front, spec))
 
