@@ -20,7 +20,9 @@ from fluxfront.design.spec import demo_spec_path, demo_spec_text, load_problem
 from fluxfront.design.table import evaluation_frame
 from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
-from fluxfront.optimizer.run import Outcome, Settings, resume, start
+from fluxfront.optimizer.resume import resume
+from fluxfront.optimizer.run import Outcome, Settings, start
+from fluxfront.optimizer.state import CheckpointError
 from fluxfront.results.buildsheet import write_pick
 from fluxfront.results.fluxmap import crossover_lines, write_flux_map
 from fluxfront.results.picking import PICK_RULES, pick_rows
@@ -28,6 +30,7 @@ from fluxfront.results.report import detail, summary_text
 from fluxfront.results.runs import compare_runs, load_run, write_knee_sheet, write_plots
 
 EXIT_NO_FEASIBLE = 3   # a search found no feasible design (the run folder is still written)
+EXIT_INTERRUPTED = 130   # Ctrl-C: the last finished chunk is saved, resume continues exactly
 
 
 def catalog_arg(p: argparse.ArgumentParser) -> None:
@@ -119,6 +122,8 @@ def _finish(outcome: Outcome) -> int:
     print(outcome.summary)
     print(f"stopped: {outcome.stop_reason}")
     print(f"run folder: {outcome.folder}")
+    if outcome.interrupted:
+        return EXIT_INTERRUPTED
     return 0 if outcome.front_size > 0 else EXIT_NO_FEASIBLE
 
 
@@ -134,10 +139,15 @@ def cmd_run(args) -> int:
 
 def cmd_resume(args) -> int:
     run_dir = Path(args.run_dir)
-    if not (run_dir / "checkpoint.pkl").is_file() or not (run_dir / "run.json").is_file():
-        raise InputError(f"{run_dir}: not a run folder (expected run.json and checkpoint.pkl in it)")
+    if not run_dir.is_dir():
+        raise InputError(f"{run_dir}: no such run folder")
     _positive("more-generations", args.more_generations)
-    return _finish(resume(run_dir, args.catalog, quiet=args.quiet, extra_generations=args.more_generations))
+    _positive("more-hours", args.more_hours, integer=False)
+    try:
+        return _finish(resume(run_dir, args.catalog, quiet=args.quiet, more_generations=args.more_generations,
+                              more_hours=args.more_hours, scheduler=args.scheduler))
+    except CheckpointError as exc:
+        raise InputError(str(exc)) from None
 
 
 def cmd_demo(args) -> int:
@@ -291,7 +301,12 @@ def _register_search(sub) -> None:
     p = sub.add_parser("resume", help="continue a stopped or killed run",
                        description="Continue a run from its last checkpoint; ends as if it had never stopped.")
     p.add_argument("run_dir", metavar="RUN_DIR")
-    p.add_argument("--more-generations", type=int, metavar="G", help="extend the generation budget by G")
+    extend = p.add_mutually_exclusive_group()
+    extend.add_argument("--more-generations", type=int, metavar="G",
+                        help="run G generations beyond the checkpoint (time and stagnation rules no longer stop it)")
+    extend.add_argument("--more-hours", type=float, metavar="H", help="run H more hours of wall-clock time")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="evaluate on this Dask cluster (an address stored in the run folder is never used)")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
     catalog_arg(p)
     p.set_defaults(func=cmd_resume)

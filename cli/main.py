@@ -16,7 +16,7 @@ from . import commands
 
 EXIT_BAD_INPUT = 2
 EXIT_NO_FEASIBLE = commands.EXIT_NO_FEASIBLE
-EXIT_INTERRUPTED = 130
+EXIT_INTERRUPTED = commands.EXIT_INTERRUPTED
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -39,22 +39,36 @@ def knee_index(F: np.ndarray) -> int:
 
 
 class ParetoArchive:
-    """Every feasible non-dominated design seen so far (encoded X and objectives F), unique by X."""
+    """Every feasible non-dominated design seen so far: encoded X, objectives F and the island that
+    found it (``tag``), unique by X, rows ordered by volume, then loss, then cost."""
 
-    def __init__(self, n_var: int, n_obj: int):
-        self.X = np.zeros((0, n_var))
-        self.F = np.zeros((0, n_obj))
+    def __init__(self, n_var: int, n_obj: int, X=None, F=None, tag=None):
+        self.X = np.zeros((0, n_var)) if X is None else np.asarray(X, dtype=float)
+        self.F = np.zeros((0, n_obj)) if F is None else np.asarray(F, dtype=float)
+        self.tag = np.zeros(len(self.X), dtype=int) if tag is None else np.asarray(tag, dtype=int)
 
-    def update(self, X: np.ndarray, F: np.ndarray, feasible: np.ndarray) -> None:
+    def update(self, X: np.ndarray, F: np.ndarray, feasible: np.ndarray, tag=None) -> bool:
+        """Merge the feasible rows; returns whether the archive changed."""
+        tag = np.zeros(len(X), dtype=int) if tag is None else np.broadcast_to(np.asarray(tag, dtype=int), len(X))
+        if not np.any(feasible):
+            return False
+        before = self.X
         X = np.vstack([self.X, X[feasible]])
         F = np.vstack([self.F, F[feasible]])
+        tags = np.concatenate([self.tag, tag[feasible]])
         _, first = np.unique(X, axis=0, return_index=True)
         first = np.sort(first)
-        X, F = X[first], F[first]
+        X, F, tags = X[first], F[first], tags[first]
         keep = np.sort(non_dominated(F))
-        self.X, self.F = X[keep], F[keep]
-        order = np.lexsort(self.F.T[::-1])      # rows by volume, then loss, then cost: stable files
-        self.X, self.F = self.X[order], self.F[order]
+        X, F, tags = X[keep], F[keep], tags[keep]
+        order = np.lexsort(F.T[::-1])      # rows by volume, then loss, then cost: stable files
+        self.X, self.F, self.tag = X[order], F[order], tags[order]
+        return not (before.shape == self.X.shape and np.array_equal(before, self.X))
+
+    def contributions(self, reference: np.ndarray, islands: int) -> np.ndarray:
+        """Hypervolume each island's points add that no other island's points cover (>= 0)."""
+        total = hypervolume(self.F, reference)
+        return np.array([max(total - hypervolume(self.F[self.tag != k], reference), 0.0) for k in range(islands)])
 
     def __len__(self) -> int:
         return len(self.F)

@@ -1,13 +1,17 @@
-"""Evaluating a generation in parallel: chunks of the population on joblib workers or a Dask cluster.
+"""Work on joblib worker processes or a Dask cluster: whole islands for a chunk of generations, or
+chunks of one large batch of designs (the reference sample, the final sweep, re-evaluations).
 
-The evaluator is vectorized, so splitting only pays when a generation takes well over ~10 ms:
-chunks are never smaller than ``min_chunk`` designs, and a small population is evaluated in
-this process.  Every design is computed independently with fixed-order sums, so the result is
-bit-identical whatever the backend or the chunking.
+Islands go to workers whole (island k to worker k mod W): a worker asks, evaluates and tells for
+several generations and sends back only its islands and what they evaluated, so the processes
+spend their time evaluating, not exchanging.  A large batch is split into chunks of at least
+``min_chunk`` designs.  Every design is computed independently with fixed-order sums and every
+island has its own random stream, so results are bit-identical whatever the backend or the
+number of workers.
 """
 from __future__ import annotations
 
 import contextlib
+from dataclasses import replace
 
 import numpy as np
 from joblib import Parallel, cpu_count, delayed, parallel_config
@@ -17,6 +21,9 @@ from fluxfront.design.designs import Designs
 from fluxfront.design.evaluator import Evaluation, concat_evaluations
 from fluxfront.design.tolerance import TolerantContext, evaluate_tolerant, tolerant_context
 from fluxfront.errors import InputError
+
+from .islands import Evaluated, Island, evolve
+from .space import DesignSpace
 
 MIN_CHUNK = 2000  # about 40 ms of evaluation on one core: below that, process start-up and pickling dominate
 
@@ -77,6 +84,21 @@ class PopulationEvaluator:
         if self._parallel is None:
             return 1
         return cpu_count() if self.jobs in (-1, None) else max(self.jobs, 1)
+
+    def run(self, ctx: TolerantContext, islands: list[Island], spaces: list[DesignSpace], first_generation: int,
+            generations: int) -> tuple[list[Island], list[Evaluated]]:
+        """Evolve every island ``generations`` generations, islands shared out over the workers."""
+        groups = [list(range(w, len(islands), self.workers)) for w in range(min(self.workers, len(islands)))]
+        if self._parallel is None or len(groups) <= 1:
+            return evolve(ctx, islands, spaces, first_generation, generations)
+        results = self._parallel(delayed(evolve)(ctx, [islands[i] for i in g], [spaces[i] for i in g],
+                                                 first_generation, generations) for g in groups)
+        out, records = list(islands), []
+        for g, (done, recs) in zip(groups, results):
+            for local, k in enumerate(g):
+                out[k] = done[local]
+            records += [replace(r, island=g[r.island]) for r in recs]
+        return out, records
 
     def __call__(self, designs: Designs) -> Evaluation:
         n = len(designs)

@@ -1,58 +1,61 @@
-"""The search loop: NSGA-II over the encoded design space, one generation at a time, with callbacks
-that write the run folder and a checkpoint after every generation.
+"""The search loop: islands of NSGA-II on arrays, evolved in chunks, with the run folder written as it goes.
 
-Islands: one NSGA-II population per allowed material.  Materials differ so much (a ferrite and a
-powder core meet the limits in very different corners of the space) that a single population
-loses every material but the first one to reach feasibility; with one island each, every
-material keeps its own front, and the archive merges them.  Each generation, the offspring of
-all islands are evaluated in one batch (one vectorized, possibly parallel, call).
+Islands: one population per allowed material, each within its material's Steinmetz frequency
+range.  Materials differ so much that a single population loses every material but the first to
+reach feasibility; with one island each, every material keeps its own front, and the archive
+merges them.  Islands hold different materials and encodings, so no migrants pass between them;
+what they share is the evaluation budget (below).
 
-Reproducibility: the algorithm's random state is a seeded numpy Generator that lives inside the
-pickled algorithm, and every evaluation is a pure function of the design, so a run stopped
-after generation k and resumed ends bit-identical to one that ran straight through (for the
-generation and stagnation stop rules; a wall-clock budget stops wherever the clock says).
+Chunks: the islands evolve ``SYNC_GENERATIONS`` generations at a time, each worker process owning
+whole islands (ask, evaluate, tell locally) and sending back only its islands and what they
+evaluated.  After a chunk the archive, history, checkpoint and (every tenth generation) pareto.csv
+are written.  Every ``SYNC_GENERATIONS`` generations the islands' shares of the evaluations are set
+by their exclusive contribution to the archive's hypervolume, with a floor (``BUDGET_FLOOR``) so
+that no material starves.  At the end a local sweep (one step in every variable around each
+archive member) polishes the front.
+
+Reproducibility: every island has its own seeded random stream, stored in the checkpoint, and
+every evaluation is a pure function of the design, so a run is bit-identical whatever the number
+of worker processes, and a run stopped (Ctrl-C, kill, power cut) and resumed ends as if it had run
+straight through (for the generation and stagnation rules; a wall-clock budget stops where the
+clock says).  Ctrl-C discards the chunk in flight.
 """
 from __future__ import annotations
 
 import logging
 import shutil
 import time
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, replace
 from datetime import datetime, timezone
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
-from pymoo.algorithms.moo.nsga2 import NSGA2
-from pymoo.core.evaluator import Evaluator
-from pymoo.core.termination import NoTermination
-from pymoo.operators.crossover.sbx import SBX
-from pymoo.operators.mutation.pm import PM
-from pymoo.operators.sampling.rnd import FloatRandomSampling
-from pymoo.problems.static import StaticProblem
 from tqdm import tqdm
 
-from fluxfront.catalog import Catalog, load_catalog
-from fluxfront.design.designs import Designs
-from fluxfront.design.evaluator import CONSTRAINTS, objective_columns, prepare
-from fluxfront.design.spec import Spec, catalog_folders, load_spec
+from fluxfront.catalog import Catalog
+from fluxfront.design.evaluator import CONSTRAINTS, prepare
+from fluxfront.design.spec import Spec
 from fluxfront.design.table import evaluation_frame
 from fluxfront.design.tolerance import TolerantContext, evaluate_tolerant, tolerant_context
 
-from .front import ParetoArchive, hypervolume, knee_index
+from . import state as checkpoint
+from .front import ParetoArchive, hypervolume
+from .islands import new_island
 from .parallel import MIN_CHUNK, PopulationEvaluator
-from .problem import InductorProblem, SnapToDesigns, duplicate_check
 from .runfolder import RunFolder, catalog_used, command_line, library_versions
 from .space import DesignSpace
+from .state import State
+from .summary import summary_text
+from .sweep import local_sweep
 
 log = logging.getLogger("fluxfront.run")
 
-REFERENCE_SAMPLE = 4096      # random designs evaluated to fix the hypervolume reference point
+REFERENCE_SAMPLE = 4096      # random designs evaluated to fix the hypervolume reference point (counted)
 PARETO_EVERY = 10            # generations between rewrites of pareto.csv (always at the end)
-CROSSOVER_ETA = 5.0         # SBX distribution index (pymoo default 15); see new_algorithms
-MUTATION_ETA = 5.0          # polynomial mutation distribution index (pymoo default 20)
-MUTATION_RATE = 0.3         # probability per variable (pymoo default 1/7 here)
-CHECKPOINT_SHARE = 10.0      # wait at least this many times the last checkpoint's cost before the next
+SYNC_GENERATIONS = 5         # generations per chunk; budgets change only at multiples of it
+BUDGET_FLOOR = 0.3           # share of each generation's evaluations spread evenly over the islands
+KEEP_ALL_ROWS = 100_000      # --keep-all rows per Parquet part
 
 
 @dataclass
@@ -65,22 +68,7 @@ class Settings:
     jobs: int = -1
     scheduler: str | None = None
     keep_all: bool = False
-    min_chunk: int = MIN_CHUNK      # smallest chunk sent to a worker (lower it only to exercise backends)
-
-
-@dataclass
-class State:
-    """Everything the loop needs to continue; pickled as the checkpoint."""
-
-    algorithms: list                # one NSGA2 per island, in DesignSpace.materials order
-    archive: ParetoArchive
-    reference: np.ndarray
-    generation: int = 0
-    evaluations: int = 0
-    elapsed_s: float = 0.0
-    history: list = field(default_factory=list)
-    violation: dict = field(default_factory=dict)   # last generation: mean violation per constraint
-    violated_share: dict = field(default_factory=dict)
+    min_chunk: int = MIN_CHUNK      # smallest chunk of a large batch sent to a worker
 
 
 @dataclass
@@ -92,21 +80,10 @@ class Outcome:
     generations: int
     hypervolume: float
     summary: str
+    interrupted: bool = False
 
 
-def reference_point(ctx: TolerantContext, space: DesignSpace, seed: int) -> np.ndarray:
-    """Hypervolume reference fixed for the run: 1.1 x the worst feasible objectives of a seeded sample.
-
-    With fewer than ten feasible designs in the sample, the 95th percentile of all its designs is used.
-    """
-    x = space.sample(np.random.default_rng([seed, 1]), REFERENCE_SAMPLE)
-    ev = evaluate_tolerant(ctx, space.decode(x))
-    F = ev.objectives[ev.feasible] if ev.feasible.sum() >= 10 else ev.objectives
-    worst = F.max(axis=0) if ev.feasible.sum() >= 10 else np.percentile(F, 95, axis=0)
-    return 1.1 * worst
-
-
-def islands(space: DesignSpace, catalog: Catalog) -> list[DesignSpace]:
+def island_spaces(space: DesignSpace, catalog: Catalog) -> list[DesignSpace]:
     """One sub-space per material, in a fixed order, each within its material's Steinmetz bands."""
     mats = list(catalog.materials.values())
     out = []
@@ -116,37 +93,16 @@ def islands(space: DesignSpace, catalog: Catalog) -> list[DesignSpace]:
     return out
 
 
-def new_algorithms(space: DesignSpace, catalog: Catalog, settings: Settings) -> list[NSGA2]:
-    """Seeded NSGA-II per island: island k draws from the seed sequence (seed, k).
+def reference_point(ctx: TolerantContext, space: DesignSpace, seed: int, evaluator) -> np.ndarray:
+    """Hypervolume reference fixed for the run: 1.1 x the worst feasible objectives of a seeded sample.
 
-    Distribution indices of 5 for crossover and mutation (pymoo's defaults are 15 and 20) and a
-    mutation rate of 0.3 per variable: wider and more frequent steps suit catalog indices and turn
-    counts, whose feasible pockets are narrow.  Chosen with benchmarks/search_quality.py over six
-    seeds: 100 % of the enumerated front's hypervolume on all six, against a mean of 94 % (worst
-    89 %) with the indices alone and lower still with pymoo's defaults.
+    With fewer than ten feasible designs in the sample, the 95th percentile of all its designs is used.
     """
-    out = []
-    for k, island in enumerate(islands(space, catalog)):
-        algorithm = NSGA2(pop_size=settings.population, sampling=FloatRandomSampling(),
-                          crossover=SBX(eta=CROSSOVER_ETA, prob=0.9), mutation=PM(eta=MUTATION_ETA, prob_var=MUTATION_RATE),
-                          repair=SnapToDesigns(), eliminate_duplicates=duplicate_check())
-        seed = int(np.random.SeedSequence([settings.seed, k]).generate_state(1)[0])
-        algorithm.setup(InductorProblem(island), seed=seed, termination=NoTermination(), verbose=False)
-        out.append(algorithm)
-    return out
-
-
-def _stop_reason(state: State, settings: Settings) -> str | None:
-    if settings.generations is not None and state.generation >= settings.generations:
-        return f"reached {settings.generations} generations"
-    if settings.hours is not None and state.elapsed_s >= settings.hours * 3600:
-        return f"reached the time budget of {settings.hours:g} h"
-    n = settings.stagnation
-    if n and len(state.history) > n:
-        gain = state.history[-1]["hypervolume"] - state.history[-1 - n]["hypervolume"]
-        if gain < 1e-4:
-            return f"hypervolume gained less than 1e-4 over {n} generations"
-    return None
+    x = space.sample(np.random.default_rng([seed, 1]), REFERENCE_SAMPLE)
+    ev = evaluator(space.decode(x))
+    F = ev.objectives[ev.feasible] if ev.feasible.sum() >= 10 else ev.objectives
+    worst = F.max(axis=0) if ev.feasible.sum() >= 10 else np.percentile(F, 95, axis=0)
+    return 1.1 * worst
 
 
 def pareto_frame(ctx: TolerantContext, space: DesignSpace, archive: ParetoArchive) -> pd.DataFrame:
@@ -157,90 +113,147 @@ def pareto_frame(ctx: TolerantContext, space: DesignSpace, archive: ParetoArchiv
     return evaluation_frame(evaluate_tolerant(ctx, space.decode(archive.X)), ctx.catalog)
 
 
-def _one_generation(state: State, space: DesignSpace, evaluator: PopulationEvaluator):
-    pops = [algorithm.ask() for algorithm in state.algorithms]
-    xs = [pop.get("X") for pop in pops]
-    subspaces = [algorithm.problem.space for algorithm in state.algorithms]
-    ev = evaluator(Designs.concat([sub.decode(x) for sub, x in zip(subspaces, xs)]))
-    edges = np.cumsum([0] + [len(x) for x in xs])
-    for algorithm, pop, a, b in zip(state.algorithms, pops, edges[:-1], edges[1:]):
-        Evaluator().eval(StaticProblem(algorithm.problem, F=ev.objectives[a:b], G=ev.constraints[a:b]), pop)
-        algorithm.tell(infills=pop)
-    x_global = np.vstack([sub.to_global(sub.canonical(x)) for sub, x in zip(subspaces, xs)])
-    state.archive.update(x_global, ev.objectives, ev.feasible)
-    state.generation += 1
-    state.evaluations += int(edges[-1])
-    positive = np.maximum(ev.constraints, 0.0)
-    state.violation = dict(zip(CONSTRAINTS, positive.mean(axis=0).tolist()))
-    state.violated_share = dict(zip(CONSTRAINTS, (positive > 0).mean(axis=0).tolist()))
-    return ev
+def _stop_reason(state: State, settings: Settings, trace: list[float]) -> str | None:
+    if settings.generations is not None and state.generation >= settings.generations:
+        return f"reached {settings.generations} generations"
+    if settings.hours is not None and state.elapsed_s >= settings.hours * 3600:
+        return f"reached the time budget of {settings.hours:g} h"
+    n = settings.stagnation
+    if n and len(trace) > n and trace[-1] - trace[-1 - n] < 1e-4:
+        return f"hypervolume gained less than 1e-4 over {n} generations"
+    return None
 
 
-def _progress(quiet: bool, settings: Settings, state: State):
-    if quiet:
-        return None
-    total = settings.generations
-    return tqdm(total=total, initial=state.generation, unit="gen", dynamic_ncols=True, leave=True)
+def _chunk_length(state: State, settings: Settings) -> int:
+    """Generations up to the next multiple of SYNC_GENERATIONS, or fewer to end on the target."""
+    n = SYNC_GENERATIONS - state.generation % SYNC_GENERATIONS
+    if settings.generations is not None:
+        n = min(n, settings.generations - state.generation)
+    return max(n, 1)
+
+
+def _set_budgets(state: State, settings: Settings) -> None:
+    """Share the next generations' evaluations by the islands' exclusive hypervolume contributions."""
+    k = len(state.islands)
+    total = settings.population * k
+    contrib = state.archive.contributions(state.reference, k)
+    share = np.full(k, 1.0 / k) if contrib.sum() <= 0 else contrib / contrib.sum()
+    budget = np.maximum(np.rint(total * (BUDGET_FLOOR / k + (1 - BUDGET_FLOOR) * share)), 2).astype(int)
+    state.islands = [replace(isl, offspring=int(b)) for isl, b in zip(state.islands, budget)]
+
+
+def _absorb(state: State, spaces, records, started: float, keep_all: bool) -> list[dict]:
+    """Fold a chunk's evaluations into the archive, generation by generation; returns history rows."""
+    rows = []
+    g_all = []
+    for gen in sorted({r.generation for r in records}):
+        batch = sorted((r for r in records if r.generation == gen), key=lambda r: r.island)
+        n = 0
+        feasible = 0
+        for r in batch:
+            x_global = spaces[r.island].to_global(r.X)
+            state.archive.update(x_global, r.F, r.feasible, r.island)
+            n += len(r.X)
+            feasible += int(r.feasible.sum())
+            g_all.append(r.G)
+            if keep_all and r.feasible.any():
+                ok = r.feasible
+                block = np.column_stack([np.full(ok.sum(), gen), np.full(ok.sum(), r.island), x_global[ok], r.F[ok],
+                                         r.feasible[ok]])
+                state.kept = block if state.kept is None else np.vstack([state.kept, block])
+        state.evaluations += n
+        rows.append({"generation": gen + 1, "evaluations": state.evaluations,
+                     "feasible_fraction": feasible / max(n, 1), "front_size": len(state.archive),
+                     "hypervolume": hypervolume(state.archive.F, state.reference),
+                     "elapsed_s": round(time.monotonic() - started, 3)})
+    if g_all:
+        positive = np.maximum(np.vstack(g_all), 0.0)
+        state.violation = dict(zip(CONSTRAINTS, positive.mean(axis=0).tolist()))
+        state.violated_share = dict(zip(CONSTRAINTS, (positive > 0).mean(axis=0).tolist()))
+    return rows
+
+
+def _flush_kept(folder: RunFolder, space: DesignSpace, ctx: TolerantContext, state: State, force: bool) -> None:
+    """Write the buffered --keep-all rows (every feasible design evaluated) as one Parquet part when there
+    are enough of them, or at the end."""
+    if state.kept is None or (len(state.kept) < KEEP_ALL_ROWS and not force):
+        return
+    kept = state.kept
+    frame = space.decode(kept[:, 2:2 + space.lower.size]).to_frame(ctx.catalog)
+    for i, name in enumerate(ctx.objectives):
+        frame[name] = kept[:, 2 + space.lower.size + i]
+    frame["feasible"] = kept[:, -1].astype(bool)
+    frame.insert(0, "generation", kept[:, 0].astype(int) + 1)
+    folder.write_parquet(f"evaluated/part-{state.parts:05d}.parquet", frame)
+    state.kept, state.parts = None, state.parts + 1
 
 
 def search(ctx: TolerantContext, space: DesignSpace, folder: RunFolder, settings: Settings, state: State,
-           evaluator: PopulationEvaluator, quiet: bool = False) -> Outcome:
-    """Run generations until a stop rule holds; write the run folder as it goes."""
+           workers: PopulationEvaluator, quiet: bool = False) -> Outcome:
+    """Run chunks of generations until a stop rule holds; write the run folder as it goes."""
     meta = folder.read_json("run.json")
-    bar = _progress(quiet, settings, state)
-    stop = None
+    spaces = island_spaces(space, ctx.catalog)
+    history = pd.read_csv(folder.file("history.csv")) if folder.file("history.csv").is_file() else None
+    trace = [] if history is None else history["hypervolume"].tolist()
+    bar = None if quiet else tqdm(total=settings.generations, initial=state.generation, unit="gen",
+                                  dynamic_ncols=True, leave=True)
     started = time.monotonic() - state.elapsed_s
-    last_save, save_cost = time.monotonic(), 0.0
+    interrupted = False
     try:
-        while (stop := _stop_reason(state, settings)) is None:
+        while (stop := _stop_reason(state, settings, trace)) is None:
             t0 = time.monotonic()
-            ev = _one_generation(state, space, evaluator)
+            n = _chunk_length(state, settings)
+            islands, records = workers.run(ctx, state.islands, spaces, state.generation, n)
+            state.islands = islands
+            rows = _absorb(state, spaces, records, started, settings.keep_all)
+            state.generation += n
             state.elapsed_s = time.monotonic() - started
-            hv = hypervolume(state.archive.F, state.reference)
-            row = {"generation": state.generation, "evaluations": state.evaluations,
-                   "feasible_fraction": float(ev.feasible.mean()), "front_size": len(state.archive),
-                   "hypervolume": hv, "elapsed_s": round(state.elapsed_s, 3)}
-            state.history.append(row)
-            if settings.keep_all and ev.feasible.any():
-                folder.write_parquet(f"evaluated/gen_{state.generation:06d}.parquet",
-                                     evaluation_frame(ev, ctx.catalog)[ev.feasible])
-            folder.write_csv("history.csv", pd.DataFrame(state.history))
-            if state.generation % PARETO_EVERY == 0:
+            if state.generation % SYNC_GENERATIONS == 0:
+                _set_budgets(state, settings)
+            folder.append_history(rows)
+            trace += [r["hypervolume"] for r in rows]
+            if state.generation % PARETO_EVERY < n:
                 folder.write_csv("pareto.csv", pareto_frame(ctx, space, state.archive))
-            # a checkpoint after every generation, unless pickling large populations would take
-            # more than a tenth of the run: then as often as that allows (resume is exact either way)
-            if time.monotonic() - last_save >= CHECKPOINT_SHARE * save_cost:
-                t_save = time.monotonic()
-                folder.save_checkpoint(state)
-                last_save = time.monotonic()
-                save_cost = last_save - t_save
-            rate = len(ev.designs) / max(time.monotonic() - t0, 1e-9)
-            log.info("generation %d: %d evaluations, %.1f%% feasible, front %d, hypervolume %.5f",
-                     state.generation, state.evaluations, 100 * row["feasible_fraction"], row["front_size"], hv)
+            _flush_kept(folder, space, ctx, state, force=False)
+            checkpoint.save(folder.path, state)
+            log.info("generation %d: %d evaluations, front %d, hypervolume %.5f", state.generation,
+                     state.evaluations, len(state.archive), trace[-1] if trace else 0.0)
             if bar is not None:
-                left = ""
-                if settings.hours is not None:
-                    left = f"{max(settings.hours * 3600 - state.elapsed_s, 0) / 60:.1f} min"
-                bar.set_postfix_str(f"{rate:,.0f} eval/s, feasible {row['feasible_fraction']:.0%}, "
-                                    f"front {row['front_size']}, HV {hv:.4f}" + (f", left {left}" if left else ""),
-                                    refresh=False)
-                bar.update(1)
+                rate = sum(len(r.X) for r in records) / max(time.monotonic() - t0, 1e-9)
+                bar.set_postfix_str(f"{rate:,.0f} designs/s, front {len(state.archive)}, "
+                                    f"HV {trace[-1] if trace else 0:.4f}", refresh=False)
+                bar.update(n)
     except KeyboardInterrupt:
-        stop = "interrupted (resume with: fluxfront resume RUN_DIR)"
+        stop, interrupted = "interrupted (the chunk in flight was discarded; resume with: fluxfront resume RUN_DIR)", True
     finally:
         if bar is not None:
             bar.close()
-    front = pareto_frame(ctx, space, state.archive)
+    if not interrupted and state.polished is None:
+        state.polished = ParetoArchive(state.archive.X.shape[1], 3, state.archive.X, state.archive.F, state.archive.tag)
+        added, state.sweep_evaluations = local_sweep(space, state, workers)
+        meta["sweep"] = {"evaluations": state.sweep_evaluations, "archive_members_added": added}
+    _flush_kept(folder, space, ctx, state, force=not interrupted)
+    final = state.polished if state.polished is not None else state.archive
+    front = pareto_frame(ctx, space, final)
     folder.write_csv("pareto.csv", front)
-    folder.save_checkpoint(state)
-    hv = state.history[-1]["hypervolume"] if state.history else 0.0
+    checkpoint.save(folder.path, state)
+    hv = hypervolume(final.F, state.reference)
     meta.update({"end_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "stop_reason": stop,
-                 "evaluations": state.evaluations, "generations": state.generation, "front_size": len(front),
+                 "evaluations": state.evaluations + state.sweep_evaluations, "generations": state.generation,
+                 "front_size": len(front),
                  "hypervolume": hv, "elapsed_s": round(state.elapsed_s, 3)})
     folder.write_json("run.json", meta)
     log.info("stopped: %s", stop)
-    return Outcome(folder.path, stop, len(front), state.evaluations, state.generation, hv,
-                   summary_text(front, state, ctx.spec))
+    return Outcome(folder.path, stop, len(front), state.evaluations + state.sweep_evaluations, state.generation, hv,
+                   summary_text(front, state, ctx.spec), interrupted)
+
+
+def _new_state(ctx: TolerantContext, space: DesignSpace, settings: Settings, evaluator) -> State:
+    spaces = island_spaces(space, ctx.catalog)
+    islands = [new_island(m, sub, settings.population, np.random.SeedSequence([settings.seed, k]))
+               for k, (m, sub) in enumerate(zip(space.materials, spaces))]
+    reference = reference_point(ctx, space, settings.seed, evaluator)
+    return State(islands, ParetoArchive(space.lower.size, 3), reference, evaluations=REFERENCE_SAMPLE)
 
 
 def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings: Settings,
@@ -252,53 +265,36 @@ def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings
     """
     ctx = tolerant_context(prepare(spec, catalog))
     space = DesignSpace.from_spec(spec, catalog)
-    with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
-        return _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet)
+    with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as workers:
+        out_dir.mkdir(parents=True, exist_ok=False)
+        folder = RunFolder(out_dir)
+        _attach_log(folder)
+        shutil.copyfile(spec_path, folder.file("spec.toml"))
+        folder.write_json("catalog.json", catalog_used(catalog, space))
+        state = _new_state(ctx, space, settings, workers)
+        folder.write_json("run.json", {
+            "tool": "fluxfront", "versions": library_versions(), "command_line": command_line(),
+            "start_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "settings": asdict(settings),
+            "spec_file": str(spec_path), "design_space_size": space.size, "reference_point": state.reference.tolist(),
+            "islands": [list(catalog.materials)[m] for m in space.materials],
+            "objectives": list(ctx.objectives), "stop_reason": None,
+            "tolerance_corners": [c.name for c in ctx.corners],
+        })
+        checkpoint.save(folder.path, state)
+        log.info("run started in %s: seed %d, population %d", out_dir, settings.seed, settings.population)
+        return search(ctx, space, folder, settings, state, workers, quiet)
 
 
-def _start(ctx, space, spec_path, catalog, out_dir, settings, evaluator, quiet) -> Outcome:
-    out_dir.mkdir(parents=True, exist_ok=False)
-    folder = RunFolder(out_dir)
-    _attach_log(folder)
-    shutil.copyfile(spec_path, folder.file("spec.toml"))
-    folder.write_json("catalog.json", catalog_used(catalog, space))
-    reference = reference_point(ctx, space, settings.seed)
-    folder.write_json("run.json", {
-        "tool": "fluxfront", "versions": library_versions(), "command_line": command_line(),
-        "start_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "settings": asdict(settings),
-        "spec_file": str(spec_path), "design_space_size": space.size, "reference_point": reference.tolist(),
-        "islands": [list(catalog.materials)[m] for m in space.materials],
-        "objectives": list(ctx.objectives), "stop_reason": None,
-        "tolerance_corners": [c.name for c in ctx.corners],
-    })
-    state = State(new_algorithms(space, catalog, settings), ParetoArchive(space.lower.size, 3), reference)
-    folder.save_checkpoint(state)
-    log.info("run started in %s: seed %d, population %d", out_dir, settings.seed, settings.population)
-    return search(ctx, space, folder, settings, state, evaluator, quiet)
-
-
-def resume(run_dir: Path, catalog_dirs=(), quiet: bool = False, extra_generations: int | None = None) -> Outcome:
-    """Continue a stopped or killed run from its last checkpoint."""
-    folder = RunFolder(run_dir)
-    _attach_log(folder)
-    meta = folder.read_json("run.json")
-    settings = Settings(**meta["settings"])
-    if extra_generations is not None:
-        settings.generations = (settings.generations or 0) + extra_generations
-    spec, _ = load_spec(folder.file("spec.toml"))
-    base = Path(meta["spec_file"]).parent
-    catalog = load_catalog(catalog_folders(spec, base, catalog_dirs))
-    used = folder.read_json("catalog.json")
-    if used["catalog_sha256"] != catalog.content_hash():
-        log.warning("the catalog differs from the one the run started with (hash %s)", used["catalog_sha256"])
-    state = folder.load_checkpoint()
-    meta["resumed"] = meta.get("resumed", []) + [datetime.now(timezone.utc).isoformat(timespec="seconds")]
-    meta["settings"] = asdict(settings)
-    folder.write_json("run.json", meta)
-    log.info("resumed at generation %d", state.generation)
+def resume_state(folder: RunFolder, spec: Spec, catalog: Catalog, settings: Settings, extended: bool,
+                 quiet: bool, state: State) -> Outcome:
+    """Continue from a loaded checkpoint with ``settings`` (the run's own; ``extended``: a larger budget)."""
+    if extended:
+        state.polished, state.sweep_evaluations = None, 0    # the front will move again: sweep at the new end
+    folder.trim_history(state.generation)
     ctx = tolerant_context(prepare(spec, catalog))
-    with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as evaluator:
-        return search(ctx, DesignSpace.from_spec(spec, catalog), folder, settings, state, evaluator, quiet)
+    log.info("resumed at generation %d", state.generation)
+    with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as workers:
+        return search(ctx, DesignSpace.from_spec(spec, catalog), folder, settings, state, workers, quiet)
 
 
 def _attach_log(folder: RunFolder) -> None:
@@ -313,57 +309,6 @@ def _attach_log(folder: RunFolder) -> None:
     root.setLevel(logging.INFO)
 
 
-def representatives(front: pd.DataFrame, objectives) -> dict[str, int]:
-    """Row numbers of the smallest, lightest, lowest-loss, cheapest and balanced (knee) designs."""
-    F = front[list(objectives)].to_numpy()
-    return {"smallest": int(np.argmin(F[:, 0])), "lightest": int(np.argmin(front["mass_g"].to_numpy())),
-            "lowest loss": int(np.argmin(F[:, 1])),
-            "cheapest": int(np.argmin(F[:, 2])), "balanced (knee)": knee_index(F)}
-
-
-ADVICE = {
-    "saturation": "allow more turns or a larger gap/core (search.turns_max, search.gap_mm_max, larger shapes), "
-                  "or a lower limits.saturation_margin only if the material data allow",
-    "ripple": "raise limits.ripple_pp_max_fraction, or allow higher search.f_sw_khz_max or more turns",
-    "inductance_kept": "lower limits.inductance_kept_min_fraction or allow lower-permeability powders",
-    "fill": "raise limits.fill_max, allow larger shapes or thinner wires",
-    "hot_spot": "raise limits.hot_spot_max_c, lower limits.ambient_c, or use thermal.model = \"forced\"",
-    "material_temperature": "allow materials with a higher t_max_c or improve cooling",
-    "dcm": "raise limits.dcm_max_fraction or allow more inductance (turns, smaller gaps)",
-}
-
-
-def no_feasible_text(state: State) -> str:
-    ranked = sorted(CONSTRAINTS, key=lambda c: -state.violation.get(c, 0.0))
-    lines = ["No feasible design was found.", "Violations over the last generation (share of designs, mean excess "
-             "as a fraction of the limit):"]
-    for c in ranked:
-        if state.violated_share.get(c, 0) > 0:
-            lines.append(f"  {c}: {state.violated_share[c]:.0%} of designs, mean excess {state.violation[c]:.2f}")
-    lines.append(f"Most binding: {ranked[0]}. Suggestion: {ADVICE[ranked[0]]}.")
-    return "\n".join(lines)
-
-
-def summary_text(front: pd.DataFrame, state: State, spec: Spec) -> str:
-    """The end-of-run summary: the representative designs, each once, with the figures that matter."""
-    if len(front) == 0:
-        return no_feasible_text(state)
-    lines = [f"Pareto front: {len(front)} feasible designs after {state.evaluations:,} evaluations "
-             f"({state.generation} generations)."]
-    if "robust" in front:
-        lines.append(f"Every limit checked at its worst tolerance corner: {int(front['robust'].sum())} of "
-                     f"{len(front)} designs robust.")
-    rows: dict[int, list[str]] = {}
-    for label, i in representatives(front, objective_columns(spec)).items():
-        rows.setdefault(i, []).append(label)
-    for i, labels in rows.items():
-        r = front.iloc[i]
-        gap = f"gap {r.gap_mm:g} mm" + (f" in {int(r.gaps)}" if r.get("gaps", 1) > 1 else "") if r.gap_mm > 0 \
-            else "no gap"
-        lines.append(f"  {' / '.join(labels)} (row {i}): {r.material} {r.stack}x{r['shape']} N={r.turns} {gap} "
-                     f"{r.parallel}x{r.wire} {r.f_sw_khz:g} kHz")
-        margin = f", worst-corner margin {-r.worst_margin:.0%} ({r.worst_limit})" if "worst_margin" in r else ""
-        lines.append(f"      {r.volume_cm3:.1f} cm3, inductor loss {r.total_loss_w:.2f} W, cost {r.cost:.2f}, "
-                     f"{r.inductance_uh:.0f} uH, B peak {r.b_peak_t:.3f} of {r.b_sat_t:.3f} T, "
-                     f"hot spot {r.temperature_c:.0f} C{margin}")
-    return "\n".join(lines)
+def attach_log(folder: RunFolder) -> None:
+    """Send the library's log records to RUN_DIR/run.log."""
+    _attach_log(folder)

@@ -7,16 +7,18 @@ Layout::
       catalog.json       the catalog entries the search could use, and the whole catalog's hash
       run.json           settings and metadata (versions, seed, command line, times, stop reason)
       pareto.csv         feasible non-dominated designs (columns of `fluxfront evaluate`)
-      history.csv        one row per generation
-      evaluated/         optional: every feasible design evaluated, one Parquet file per generation
-      checkpoint.pkl     state after the last completed generation (resume starts here)
+      history.csv        one row per generation, appended
+      evaluated/         optional (--keep-all): every design evaluated, Parquet parts of at least
+                         KEEP_ALL_ROWS rows each (a bounded number of files per run)
+      checkpoint.npz     state after the last completed chunk of generations: arrays ...
+      checkpoint.json    ... and counters, random-generator states (resume starts here)
       run.log            log
 """
 from __future__ import annotations
 
 import io
 import json
-import pickle
+import os
 import platform
 import sys
 from importlib import metadata
@@ -80,12 +82,23 @@ class RunFolder:
         frame.to_parquet(buf, index=False)
         write_atomic(self.file(name), buf.getvalue())
 
-    def save_checkpoint(self, state) -> None:
-        write_atomic(self.file("checkpoint.pkl"), pickle.dumps(state, protocol=pickle.HIGHEST_PROTOCOL))
+    def append_history(self, rows: list[dict]) -> None:
+        """Append generation rows to history.csv (header on a new file); flushed to disk."""
+        if not rows:
+            return
+        path = self.file("history.csv")
+        new = not path.is_file() or path.stat().st_size == 0
+        with open(path, "a", encoding="utf-8") as fh:
+            fh.write(pd.DataFrame(rows).to_csv(index=False, header=new))
+            fh.flush()
+            os.fsync(fh.fileno())
 
-    def load_checkpoint(self):
-        with open(self.file("checkpoint.pkl"), "rb") as fh:
-            return pickle.load(fh)
+    def trim_history(self, generation: int) -> None:
+        """Drop history rows past ``generation`` (written after the checkpoint a resume starts from)."""
+        path = self.file("history.csv")
+        if path.is_file():
+            rows = pd.read_csv(path)
+            write_atomic(path, rows[rows["generation"] <= generation].to_csv(index=False))
 
 
 def command_line() -> str:

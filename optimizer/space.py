@@ -9,18 +9,22 @@ Encoding (one row of X per design, all real numbers, rounded by ``decode``):
                            material then core volume, so neighbouring indices are similar cores
  1    stack                1..stack_max, clipped to the shape family's own maximum
  2    turns                turns_min..turns_max
- 3    gap                  gap_mm_min..gap_mm_max [mm] in steps of gap_mm_step; forced to 0 for
-                           distributed-gap materials
+ 3    gap                  index into the gaps gap_mm_min..gap_mm_max [mm] in steps of
+                           gap_mm_step; forced to 0 mm for distributed-gap materials
  4    wire                 index into the allowed wires, ordered by copper area
  5    parallel             1..parallel_max
- 6    frequency            log10 of f_sw in Hz between the spec's limits (searched on a log
-                           scale, rounded to f_sw_khz_step)
+ 6    frequency            index into the frequencies f_sw_khz_min..f_sw_khz_max in steps of
+                           f_sw_khz_step
  7    gaps                 1..gaps_max discrete gaps per gapped leg; forced to 1 for
                            distributed-gap materials
 ====  ===================  ===================================================================
 
 The search runs one island per material (``island``): each island encodes only that material's
 pairs, and its rows are mapped back to the whole space's numbering (``to_global``) for the archive.
+
+Every variable is a whole number (an index or a count): the variable k spans [k - 0.5, k + 0.5),
+so that sampling and the operators' steps treat every allowed value alike (a frequency or a gap
+at the end of its range is as likely as one in the middle).
 
 Incompatible material-shape combinations cannot be encoded at all (the pair list holds only
 compatible ones); a stack beyond the family's maximum and a gap on a powder core are repaired
@@ -38,6 +42,13 @@ from fluxfront.design.spec import Spec
 from fluxfront.errors import InputError
 
 N_VAR = 8
+HALF = 0.499999   # a whole-number variable k spans [k - HALF, k + HALF]
+
+
+def _steps(lo: float, hi: float, step: float, digits: int) -> np.ndarray:
+    """Every multiple of ``step`` from ``lo`` to ``hi`` (both included when on the grid), rounded."""
+    first, last = np.ceil(lo / step - 1e-9), np.floor(hi / step + 1e-9)
+    return np.round(np.arange(first, last + 1) * step, digits)
 
 
 def _choose(requested: list[str], table: dict, kind: str) -> list[str]:
@@ -58,8 +69,8 @@ class DesignSpace:
     lower: np.ndarray          # (N_VAR,) bounds of the encoded variables
     upper: np.ndarray
     distributed: np.ndarray    # per pair: material has a distributed gap
-    gap_step_mm: float = 0.01
-    f_step_hz: float = 100.0
+    gap_mm_values: np.ndarray | None = None   # the gaps index 3 points into [mm]
+    f_values_hz: np.ndarray | None = None     # the frequencies index 6 points into [Hz]
     pair_global: np.ndarray | None = None  # island spaces: each pair's number in the whole space
 
     @classmethod
@@ -79,22 +90,21 @@ class DesignSpace:
         pm, ps = (np.array(v) for v in zip(*pairs))
         w_idx = np.array(sorted((catalog.wire_index(w) for w in wires),
                                 key=lambda i: catalog.wire_arrays["copper_area"][i]))
-        lo = np.array([0, 1, s.turns_min, s.gap_mm_min, 0, 1, np.log10(s.f_sw_khz_min * 1e3), 1], dtype=float)
-        hi = np.array([len(pairs) - 1, s.stack_max, s.turns_max, s.gap_mm_max, len(w_idx) - 1, s.parallel_max,
-                       np.log10(s.f_sw_khz_max * 1e3), s.gaps_max], dtype=float)
-        # integer variables span [k - 0.5, k + 0.5) so that every value is equally likely after rounding
-        for i in (0, 1, 2, 4, 5, 7):
-            lo[i] -= 0.499999
-            hi[i] += 0.499999
-        return cls(pm, ps, np.minimum(catalog.shape_arrays["max_stack"][ps], s.stack_max), w_idx, lo, hi,
-                   catalog.material_arrays.distributed_gap[pm], s.gap_mm_step, s.f_sw_khz_step * 1e3)
+        gaps = _steps(s.gap_mm_min, s.gap_mm_max, s.gap_mm_step, 6)
+        freqs = _steps(s.f_sw_khz_min * 1e3, s.f_sw_khz_max * 1e3, s.f_sw_khz_step * 1e3, 3)
+        if len(gaps) == 0 or len(freqs) == 0:
+            raise InputError("search: no gap or no frequency step lies within its range; check search.gap_mm_* "
+                             "and search.f_sw_khz_*")
+        lo = np.array([0, 1, s.turns_min, 0, 0, 1, 0, 1], dtype=float)
+        hi = np.array([len(pairs) - 1, s.stack_max, s.turns_max, len(gaps) - 1, len(w_idx) - 1, s.parallel_max,
+                       len(freqs) - 1, s.gaps_max], dtype=float)
+        return cls(pm, ps, np.minimum(catalog.shape_arrays["max_stack"][ps], s.stack_max), w_idx, lo - HALF,
+                   hi + HALF, catalog.material_arrays.distributed_gap[pm], gaps, freqs)
 
     @property
     def size(self) -> float:
-        """Number of distinct designs (gap and frequency counted at their steps; an upper bound)."""
-        span = np.round(self.upper - self.lower)
-        return float(span[0] * span[1] * span[2] * len(self.gap_values()) * span[4] * span[5] * len(self.f_values())
-                     * span[7])
+        """Number of distinct encoded points (an upper bound on distinct designs)."""
+        return float(np.prod(np.round(self.upper - self.lower)))
 
     def island(self, material_index: int, f_band_hz: tuple[float, float] | None = None) -> "DesignSpace":
         """The part of the space that uses one material (the search runs one island per material).
@@ -106,11 +116,11 @@ class DesignSpace:
         if keep.size == 0:
             raise ValueError(f"material number {material_index} has no pair in this space")
         upper, lower = self.upper.copy(), self.lower.copy()
-        upper[0] = keep.size - 1 + 0.499999
+        upper[0] = keep.size - 1 + HALF
         if f_band_hz is not None:
-            lo, hi = np.log10(f_band_hz[0]), np.log10(f_band_hz[1])
-            if lo < upper[6] and hi > lower[6]:
-                lower[6], upper[6] = max(lower[6], lo), min(upper[6], hi)
+            inside = np.nonzero((self.f_values_hz >= f_band_hz[0]) & (self.f_values_hz <= f_band_hz[1]))[0]
+            if inside.size:
+                lower[6], upper[6] = inside[0] - HALF, inside[-1] + HALF
         return replace(self, pair_material=self.pair_material[keep], pair_shape=self.pair_shape[keep],
                        pair_max_stack=self.pair_max_stack[keep], distributed=self.distributed[keep], upper=upper,
                        lower=lower, pair_global=keep)
@@ -130,25 +140,19 @@ class DesignSpace:
 
     def gap_values(self) -> np.ndarray:
         """Every gap the search can produce [mm]."""
-        lo, hi = np.ceil(self.lower[3] / self.gap_step_mm - 1e-9), np.floor(self.upper[3] / self.gap_step_mm + 1e-9)
-        return np.round(np.arange(lo, hi + 1) * self.gap_step_mm, 6)
+        return self.gap_mm_values
 
     def f_values(self) -> np.ndarray:
-        """Every switching frequency the search can produce [Hz]."""
-        lo = np.ceil(10 ** self.lower[6] / self.f_step_hz - 1e-9)
-        hi = np.floor(10 ** self.upper[6] / self.f_step_hz + 1e-9)
-        return np.round(np.arange(lo, hi + 1) * self.f_step_hz, 3)
+        """Every switching frequency this space can produce [Hz] (an island: within its band)."""
+        return self.f_values_hz[int(np.rint(self.lower[6])):int(np.rint(self.upper[6])) + 1]
 
     def decode(self, x: np.ndarray) -> Designs:
         """Rows of encoded variables -> valid Designs (rounding and repair, see module doc)."""
         x = np.clip(np.atleast_2d(np.asarray(x, dtype=float)), self.lower, self.upper)
         pair = np.rint(x[:, 0]).astype(int)
         stack = np.minimum(np.rint(x[:, 1]).astype(int), self.pair_max_stack[pair])
-        gap_mm = np.clip(np.round(np.round(x[:, 3] / self.gap_step_mm) * self.gap_step_mm, 6),
-                         self.gap_values()[0], self.gap_values()[-1])
-        gap = np.where(self.distributed[pair], 0.0, gap_mm) * 1e-3
-        f_sw = np.clip(np.round(np.round(10 ** x[:, 6] / self.f_step_hz) * self.f_step_hz, 3),
-                       self.f_values()[0], self.f_values()[-1])
+        gap = np.where(self.distributed[pair], 0.0, self.gap_mm_values[np.rint(x[:, 3]).astype(int)]) * 1e-3
+        f_sw = self.f_values_hz[np.rint(x[:, 6]).astype(int)]
         gaps = np.where(self.distributed[pair], 1.0, np.rint(x[:, 7]))
         return Designs(self.pair_material[pair], self.pair_shape[pair], stack, np.rint(x[:, 2]), gap,
                        self.wires[np.rint(x[:, 4]).astype(int)], np.rint(x[:, 5]), f_sw, gaps)
@@ -158,29 +162,39 @@ class DesignSpace:
         x = np.clip(np.atleast_2d(np.asarray(x, dtype=float)), self.lower, self.upper)
         d = self.decode(x)
         pair = np.rint(x[:, 0])
-        gap = np.where(self.distributed[pair.astype(int)], self.lower[3], d.gap * 1e3)
-        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.log10(d.f_sw), d.gaps])
+        gap = np.where(self.distributed[pair.astype(int)], 0.0, np.rint(x[:, 3]))
+        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.rint(x[:, 6]), d.gaps])
 
     def grid(self, gaps_mm=None, freqs_khz=None, gap_counts=None) -> np.ndarray:
         """Every distinct design, as encoded rows (for enumeration); gaps, frequencies and gap counts
         default to every value the search can produce.  Gaps apply to discrete-gap materials only.
         """
-        gaps_mm = self.gap_values() if gaps_mm is None else gaps_mm
-        freqs_khz = self.f_values() / 1e3 if freqs_khz is None else freqs_khz
+        gap_idx = (np.arange(len(self.gap_mm_values)) if gaps_mm is None
+                   else self._indices(self.gap_mm_values, gaps_mm, "gap"))
+        f_idx = (np.arange(np.rint(self.lower[6]), np.rint(self.upper[6]) + 1) if freqs_khz is None
+                 else self._indices(self.f_values_hz, np.asarray(freqs_khz, dtype=float) * 1e3, "frequency"))
         rows = []
         turns = np.arange(np.ceil(self.lower[2]), np.floor(self.upper[2]) + 1)
         wires = np.arange(len(self.wires))
         par = np.arange(np.ceil(self.lower[5]), np.floor(self.upper[5]) + 1)
-        logf = np.log10(np.asarray(freqs_khz, dtype=float) * 1e3)
         counts = (np.arange(np.ceil(self.lower[7]), np.floor(self.upper[7]) + 1) if gap_counts is None
                   else np.asarray(gap_counts, dtype=float))
         for p in range(len(self.pair_material)):
-            gaps = [self.lower[3]] if self.distributed[p] else list(gaps_mm)
+            gaps = [0] if self.distributed[p] else list(gap_idx)
             split = [1.0] if self.distributed[p] else counts
             stacks = np.arange(1, self.pair_max_stack[p] + 1)
-            mesh = np.meshgrid([p], stacks, turns, gaps, wires, par, logf, split, indexing="ij")
+            mesh = np.meshgrid([p], stacks, turns, gaps, wires, par, f_idx, split, indexing="ij")
             rows.append(np.column_stack([m.ravel() for m in mesh]))
         return self.canonical(np.vstack(rows))
+
+    @staticmethod
+    def _indices(values: np.ndarray, wanted, kind: str) -> np.ndarray:
+        wanted = np.atleast_1d(np.asarray(wanted, dtype=float))
+        idx = np.array([int(np.argmin(np.abs(values - w))) for w in wanted])
+        off = ~np.isclose(values[idx], wanted, rtol=1e-9, atol=1e-9)
+        if off.any():
+            raise ValueError(f"{kind} {wanted[off][0]:g} is not a step of the space")
+        return idx
 
     def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
         """``n`` encoded points drawn uniformly within the bounds."""

@@ -1,18 +1,20 @@
 """A finished (or stopped) run folder read back for results: plots, picks and comparisons."""
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from fluxfront.catalog import Catalog, load_catalog
+from fluxfront.catalog import Catalog
+from fluxfront.design.designs import DESIGN_COLUMNS
 from fluxfront.design.evaluator import INDUCTOR_OBJECTIVES, Context, objective_columns, prepare
-from fluxfront.design.spec import Spec, catalog_folders, load_spec
+from fluxfront.design.spec import Spec, load_spec
 from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
 from fluxfront.optimizer.front import hypervolume, knee_index
+from fluxfront.optimizer.resume import check_override, read_settings, snapshot_catalog
+from fluxfront.optimizer.runfolder import RunFolder
 
 from . import plots
 from .buildsheet import write_pick
@@ -25,13 +27,39 @@ def load_run(run_dir, extra_catalogs=()) -> tuple[Spec, Catalog, Context, pd.Dat
     missing = [n for n in needed if not (run_dir / n).is_file()]
     if missing:
         raise InputError(f"{run_dir}: not a run folder (missing {missing[0]}; expected {', '.join(needed)})")
-    meta = json.loads((run_dir / "run.json").read_text())
+    folder = RunFolder(run_dir)
+    read_settings(folder)
     spec, _ = load_spec(run_dir / "spec.toml")
-    base = Path(meta.get("spec_file", run_dir / "spec.toml")).parent
-    catalog = load_catalog(catalog_folders(spec, base, extra_catalogs))
-    front = pd.read_csv(run_dir / "pareto.csv")
-    history = pd.read_csv(run_dir / "history.csv") if (run_dir / "history.csv").is_file() else None
+    catalog = snapshot_catalog(folder)              # the run's own entries, whatever the catalog says today
+    check_override(folder, spec, catalog, extra_catalogs)
+    front = read_front(run_dir / "pareto.csv")
+    history = read_history(run_dir / "history.csv")
     return spec, catalog, prepare(spec, catalog), front, history
+
+
+def read_front(path: Path) -> pd.DataFrame:
+    """pareto.csv, checked: one line naming the file and what is wrong."""
+    try:
+        front = pd.read_csv(path)
+    except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError, OSError) as exc:
+        raise InputError(f"{path}: not a readable front ({str(exc).splitlines()[0] if str(exc) else 'empty'})") from None
+    needed = list(DESIGN_COLUMNS) + list(INDUCTOR_OBJECTIVES) + ["system_loss_w", "feasible"]
+    missing = [c for c in needed if c not in front.columns]
+    if missing:
+        raise InputError(f"{path}: column '{missing[0]}' missing; not a front written by fluxfront")
+    numeric = front[[c for c in needed if c not in ("material", "shape", "wire", "feasible")]]
+    if not np.isfinite(numeric.apply(pd.to_numeric, errors="coerce").to_numpy(dtype=float)).all():
+        raise InputError(f"{path}: a design or objective value is not a finite number")
+    return front
+
+
+def read_history(path: Path) -> pd.DataFrame | None:
+    if not path.is_file():
+        return None
+    try:
+        return pd.read_csv(path)
+    except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError, OSError):
+        raise InputError(f"{path}: not a readable history") from None
 
 
 def front_knee(front: pd.DataFrame, spec: Spec) -> int:
@@ -77,7 +105,7 @@ def compare_runs(run_dirs, out) -> tuple[pd.DataFrame, np.ndarray, list[Path]]:
         label = Path(run).name
         if label in fronts:                      # two runs with the same folder name: tell them apart
             label = f"{label} ({len(fronts) + 1})"
-        fronts[label] = pd.read_csv(path)
+        fronts[label] = read_front(path)
     cols = list(INDUCTOR_OBJECTIVES)
     stacked = np.vstack([f[cols].to_numpy() for f in fronts.values() if len(f)])
     reference = 1.1 * stacked.max(axis=0)

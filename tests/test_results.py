@@ -80,7 +80,8 @@ def test_build_sheet_sections_self_contained_and_equal_to_evaluate(run_dir, tmp_
     folder = run_dir / "picks" / "row000"
     page = _Collector()
     page.feed((folder / "build_sheet.html").read_text())
-    assert page.h2 == SECTIONS
+    # a status banner heads the sheet when the design fails a limit at a tolerance corner
+    assert [h for h in page.h2 if h != "Status"] == SECTIONS
     assert not page.links                                    # no external links
     assert page.imgs and all(src.startswith("data:image/png;base64,") for src in page.imgs)
     md = (folder / "build_sheet.md").read_text()

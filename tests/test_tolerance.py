@@ -93,7 +93,7 @@ def robust_run(tmp_path_factory):
     tmp = tmp_path_factory.mktemp("robust")
     text = demo_spec_path().read_text()
     text = text.replace('materials = ["all"]', 'materials = ["mnzn_ferrite_300k", "fesial_powder_60"]')
-    text = text.replace("[construction]", "[tolerance]\nenabled = true\n\n[construction]")
+    text = text.replace("[tolerance]\nenabled = false", "[tolerance]\nenabled = true")
     spec = tmp / "robust.toml"
     spec.write_text(text)
     out = tmp / "run"
