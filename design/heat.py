@@ -24,6 +24,8 @@ from .line_cycle import LineCycle
 TEMPERATURE_NODES_K = (0.0, 75.0, 150.0)  # above ambient: where the winding AC terms are evaluated
 NEWTON_STEPS = 60
 RUNAWAY_RISE_K = 1000.0  # a balance above this rise is runaway: no insulation or core survives it
+SETTLE_STEPS = 15        # after these steps a design whose hot spot is past HOPELESS_RISE x the allowed rise stops:
+HOPELESS_RISE = 3.0      # it cannot meet the hot-spot limit (slow tails there cost most of the iterations)
 
 
 def _natural(spec, box, dt):
@@ -107,13 +109,15 @@ def _fringing_geometry(ctx: Context, d: Designs, b: Build, c: Circuit):
     gapped = (c.gap_total > 0) & (coils > 0)
     if not gapped.any():
         return np.zeros(len(d))
-    strands = np.where(W["litz"][d.wire], W["strands"][d.wire], 1.0)
-    per_metre = b.turns_per_layer * d.parallel * strands / geo.window_breadth
-    g = gap_field.fringing_geometry_factor(geo.leg_perimeter, geo.bobbin_wall + b.keepout,
-                                           W["outer_diameter"][d.wire], b.layers, per_metre,
-                                           np.where(gapped, c.gap_total, 1e-3) / np.maximum(coils, 1), d.gaps,
-                                           geo.gap_window_height)
-    return np.where(gapped, g * coils, 0.0)
+    i = np.nonzero(gapped)[0]              # the field is computed for designs with discrete gaps only
+    w = d.wire[i]
+    strands = np.where(W["litz"][w], W["strands"][w], 1.0)
+    per_metre = b.turns_per_layer[i] * d.parallel[i] * strands / geo.window_breadth[i]
+    out = np.zeros(len(d))
+    out[i] = coils[i] * gap_field.fringing_geometry_factor(
+        geo.leg_perimeter[i], geo.bobbin_wall[i] + b.keepout[i], W["outer_diameter"][w], b.layers[i], per_metre,
+        c.gap_total[i] / coils[i], d.gaps[i], geo.gap_window_height[i])
+    return out
 
 
 def ac_factors(ctx: Context, d: Designs, b: Build, c: Circuit, lc: LineCycle) -> AcFactors:
@@ -231,7 +235,8 @@ def _newton(ctx: Context, d: Designs, t: _Terms, ac: AcFactors):
     converged = np.zeros((n, n_ops), dtype=bool)
     stable = np.zeros((n, n_ops), dtype=bool)
     active = every
-    for _ in range(NEWTON_STEPS):
+    hopeless = HOPELESS_RISE * (spec.limits.hot_spot_max_c - amb)
+    for step in range(NEWTON_STEPS):
         # Newton on dissipation(dT) - loss(dT) = 0, only where not yet converged, with the internal
         # rises taken from the previous step.  The loss slope in the denominator makes it converge in
         # a few steps; its floor (a fifth of the dissipation slope) keeps each step moving up towards
@@ -242,12 +247,15 @@ def _newton(ctx: Context, d: Designs, t: _Terms, ac: AcFactors):
         p, dp = dissipation(spec, tuple(b[active] for b in t.box), x)
         new = np.clip(x - (p - loss) / np.maximum(dp - dloss, 0.2 * dp), 0.0, 2000.0)
         new_w, new_c = (np.clip(r, 0.0, 2000.0) for r in _rises(ctx, t, active, p_w, p_c))
-        done = (np.abs(new - x) < 0.01) & (np.abs(new_w - rise_w[active]) < 0.01) & (
+        settled = (np.abs(new - x) < 0.01) & (np.abs(new_w - rise_w[active]) < 0.01) & (
             np.abs(new_c - rise_c[active]) < 0.01)
+        # past the runaway rise, or far past the allowed rise after SETTLE_STEPS, there is nothing left
+        # to settle: stop iterating those (reported as runaway, see heat_balance)
+        done = settled | (new >= RUNAWAY_RISE_K) | ((step >= SETTLE_STEPS) & (new + np.maximum(new_w, new_c) >= hopeless))
         dt[active], rise_w[active], rise_c[active] = new, new_w, new_c
-        hit = (active[0][done], active[1][done])
+        hit = (active[0][settled], active[1][settled])
         converged[hit] = True
-        stable[hit] = (dp > dloss)[done]          # dissipation rises faster than loss: a stable balance
+        stable[hit] = (dp > dloss)[settled]       # dissipation rises faster than loss: a stable balance
         active = (active[0][~done], active[1][~done])
         if active[0].size == 0:
             break

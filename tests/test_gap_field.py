@@ -78,7 +78,15 @@ def _transverse_by_quadrature(x):
 
 @pytest.mark.parametrize("ratio", [0.5, 1.0, 2.0, 5.0, 20.0])
 def test_transverse_factor_equals_quadrature(ratio):
-    assert gap_field.round_wire_transverse_factor(ratio) == pytest.approx(_transverse_by_quadrature(ratio), rel=1e-8)
+    assert gap_field.round_wire_transverse_factor_exact(ratio) == pytest.approx(_transverse_by_quadrature(ratio),
+                                                                                rel=1e-8)
+
+
+def test_tabulated_transverse_factor_equals_the_exact_form():
+    # the evaluator's table against the closed form over the whole range, edges included
+    x = np.logspace(-3, 3, 2001)
+    np.testing.assert_allclose(gap_field.round_wire_transverse_factor(x),
+                               gap_field.round_wire_transverse_factor_exact(x), rtol=2e-6)
 
 
 def test_transverse_factor_low_frequency_limit():
