@@ -10,8 +10,8 @@ Layout::
       history.csv        one row per generation, appended
       evaluated/         optional (--keep-all): every design evaluated, Parquet parts of at least
                          KEEP_ALL_ROWS rows each (a bounded number of files per run)
-      checkpoint.npz     state after the last completed chunk of generations: arrays ...
-      checkpoint.json    ... and counters, random-generator states (resume starts here)
+      checkpoint.npz     state after the last completed chunk of generations: arrays and a JSON
+                         entry (counters, random-generator states); resume starts here
       run.log            log
 """
 from __future__ import annotations

@@ -1,9 +1,11 @@
-"""The search state and its checkpoint: arrays in an ``.npz`` and scalars in JSON, never code.
+"""The search state and its checkpoint: arrays and JSON in one ``.npz`` file, never code.
 
 ``checkpoint.npz`` holds the islands' populations, the archive and the unflushed ``--keep-all``
-rows; ``checkpoint.json`` holds the counters, each island's random-generator state and budget,
-and the shapes the arrays must have.  Loading checks every field and shape and refuses anything
-else with one line (``CheckpointError``): a checkpoint is data, read with ``allow_pickle=False``.
+rows as arrays, and one text entry ``meta``: JSON with the counters, each island's
+random-generator state and budget, and the shapes the arrays must have.  One file, replaced
+atomically, so a kill can never leave arrays and counters from different generations.  Loading
+checks every field and shape and refuses anything else with one line (``CheckpointError``): a
+checkpoint is data, read with ``allow_pickle=False``.
 """
 from __future__ import annotations
 
@@ -46,7 +48,7 @@ class State:
 
 
 def save(folder: Path, state: State) -> None:
-    """Write checkpoint.npz, then checkpoint.json (the JSON names the arrays' shapes: a torn pair is refused)."""
+    """Write checkpoint.npz (arrays and the JSON ``meta`` entry) atomically."""
     arrays = {"archive_X": state.archive.X, "archive_F": state.archive.F, "archive_tag": state.archive.tag,
               "reference": state.reference, "kept": np.zeros((0, 0)) if state.kept is None else state.kept}
     if state.polished is not None:
@@ -54,16 +56,15 @@ def save(folder: Path, state: State) -> None:
                        "polished_tag": state.polished.tag})
     for k, isl in enumerate(state.islands):
         arrays.update({f"island{k}_X": isl.X, f"island{k}_F": isl.F, f"island{k}_G": isl.G})
-    buf = io.BytesIO()
-    np.savez(buf, **arrays)
-    write_atomic(folder / "checkpoint.npz", buf.getvalue())
     meta = {"format": FORMAT, "generation": state.generation, "evaluations": state.evaluations,
             "elapsed_s": state.elapsed_s, "sweep_evaluations": state.sweep_evaluations, "violation": state.violation,
             "violated_share": state.violated_share, "parts": state.parts,
             "islands": [{"material": isl.material, "offspring": isl.offspring, "rng_state": isl.rng_state}
                         for isl in state.islands],
             "shapes": {k: list(v.shape) for k, v in arrays.items()}}
-    write_atomic(folder / "checkpoint.json", json.dumps(meta, indent=1) + "\n")
+    buf = io.BytesIO()
+    np.savez(buf, meta=np.array(json.dumps(meta)), **arrays)
+    write_atomic(folder / "checkpoint.npz", buf.getvalue())
 
 
 def _expect(cond: bool, path: Path, what: str) -> None:
@@ -83,23 +84,22 @@ def _rng_state(raw, path: Path) -> dict:
 
 def load(folder: Path) -> State:
     """Read and check a checkpoint; raises CheckpointError with one line on anything unexpected."""
-    jpath, npath = folder / "checkpoint.json", folder / "checkpoint.npz"
-    try:
-        meta = json.loads(jpath.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise CheckpointError(f"{jpath}: missing") from None
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise CheckpointError(f"{jpath}: not readable JSON ({exc.__class__.__name__})") from None
-    _expect(isinstance(meta, dict) and meta.get("format") == FORMAT, jpath, f"not a {FORMAT} file")
+    npath = jpath = folder / "checkpoint.npz"
     try:
         with np.load(npath, allow_pickle=False) as data:
-            arrays = {k: np.asarray(data[k], dtype=float) for k in data.files}
+            text = str(data["meta"]) if "meta" in data.files else ""
+            arrays = {k: np.asarray(data[k], dtype=float) for k in data.files if k != "meta"}
     except FileNotFoundError:
         raise CheckpointError(f"{npath}: missing") from None
-    except (OSError, ValueError, zipfile.BadZipFile, EOFError) as exc:
+    except (OSError, ValueError, TypeError, zipfile.BadZipFile, EOFError) as exc:
         raise CheckpointError(f"{npath}: not a readable array file ({exc.__class__.__name__})") from None
+    try:
+        meta = json.loads(text)
+    except json.JSONDecodeError:
+        raise CheckpointError(f"{npath}: its meta entry is not JSON") from None
+    _expect(isinstance(meta, dict) and meta.get("format") == FORMAT, jpath, f"not a {FORMAT} file")
     shapes = meta.get("shapes")
-    _expect(isinstance(shapes, dict) and set(shapes) == set(arrays), npath, "its arrays do not match checkpoint.json")
+    _expect(isinstance(shapes, dict) and set(shapes) == set(arrays), npath, "its arrays do not match its meta entry")
     for k, shape in shapes.items():
         _expect(list(arrays[k].shape) == shape and np.all(np.isfinite(arrays[k])), npath, f"array {k} is wrong")
     for key, kind in (("generation", int), ("evaluations", int), ("elapsed_s", (int, float)), ("parts", int),

@@ -75,8 +75,7 @@ def small_run(tmp_path_factory):
 
 
 def test_run_folder_contents(small_run):
-    for name in ("spec.toml", "catalog.json", "run.json", "pareto.csv", "history.csv", "checkpoint.npz",
-                 "checkpoint.json", "run.log"):
+    for name in ("spec.toml", "catalog.json", "run.json", "pareto.csv", "history.csv", "checkpoint.npz", "run.log"):
         assert (small_run / name).is_file(), name
     history = pd.read_csv(small_run / "history.csv")
     assert list(history.columns) == ["generation", "evaluations", "feasible_fraction", "front_size", "hypervolume",
