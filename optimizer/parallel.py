@@ -1,7 +1,7 @@
 """Work on joblib worker processes or a Dask cluster: whole islands for a chunk of generations, or
 chunks of one large batch of designs (the reference sample, the final sweep, re-evaluations).
 
-Islands go to workers whole (island k to worker k mod W): a worker asks, evaluates and tells for
+Islands go to workers whole (shared out by their budgets): a worker asks, evaluates and tells for
 several generations and sends back only its islands and what they evaluated, so the processes
 spend their time evaluating, not exchanging.  A large batch is split into chunks of at least
 ``min_chunk`` designs.  Every design is computed independently with fixed-order sums and every
@@ -30,6 +30,18 @@ MIN_CHUNK = 2000  # about 40 ms of evaluation on one core: below that, process s
 
 def _evaluate_part(ctx: TolerantContext, designs: Designs) -> Evaluation:
     return evaluate_tolerant(ctx, designs)
+
+
+def _balanced_groups(loads: list[int], workers: int) -> list[list[int]]:
+    """Islands shared out so that every worker gets about the same number of designs per generation
+    (largest first, each to the least loaded worker); the results do not depend on the sharing."""
+    groups = [[] for _ in range(max(workers, 1))]
+    totals = [0] * len(groups)
+    for k in sorted(range(len(loads)), key=lambda i: -loads[i]):
+        w = totals.index(min(totals))
+        groups[w].append(k)
+        totals[w] += loads[k]
+    return [sorted(g) for g in groups if g]
 
 
 class PopulationEvaluator:
@@ -88,7 +100,7 @@ class PopulationEvaluator:
     def run(self, ctx: TolerantContext, islands: list[Island], spaces: list[DesignSpace], first_generation: int,
             generations: int) -> tuple[list[Island], list[Evaluated]]:
         """Evolve every island ``generations`` generations, islands shared out over the workers."""
-        groups = [list(range(w, len(islands), self.workers)) for w in range(min(self.workers, len(islands)))]
+        groups = _balanced_groups([isl.offspring for isl in islands], min(self.workers, len(islands)))
         if self._parallel is None or len(groups) <= 1:
             return evolve(ctx, islands, spaces, first_generation, generations)
         results = self._parallel(delayed(evolve)(ctx, [islands[i] for i in g], [spaces[i] for i in g],
