@@ -43,6 +43,8 @@ def _read_toml(path: Path) -> dict:
             return tomllib.load(fh)
     except tomllib.TOMLDecodeError as exc:
         raise CatalogError(f"{path}: not valid TOML ({exc})") from None
+    except UnicodeDecodeError:
+        raise CatalogError(f"{path}: not a UTF-8 text file; a catalog file is TOML text") from None
     except OSError as exc:
         raise CatalogError(f"{path}: cannot be read ({exc.strerror})") from None
 
@@ -136,10 +138,10 @@ class Catalog:
 
     # ---- lookups with errors that list the valid names ------------------------------------
     def _index(self, table: dict, kind: str, name: str) -> int:
-        try:
-            return list(table).index(name)
-        except ValueError:
-            raise CatalogError(f"unknown {kind} {name!r}; valid: {', '.join(table)}") from None
+        positions = self.__dict__.setdefault(f"_positions_{kind}", {n: i for i, n in enumerate(table)})
+        if name not in positions:
+            raise CatalogError(f"unknown {kind} {name!r}; valid: {', '.join(table)}")
+        return positions[name]
 
     def material_index(self, name: str) -> int:
         return self._index(self.materials, "material", name)
@@ -299,9 +301,16 @@ class Catalog:
 
 
 def _entries(data: dict, key: str, path: Path) -> list:
+    """The [[key]] tables of a file; an id used twice in one file is refused (which one was meant?)."""
     items = data.get(key, [])
     if not isinstance(items, list):
         raise CatalogError(f"{path}: '{key}' must be an array of tables ([[{key}]])")
+    seen = set()
+    for raw in items:
+        eid = raw.get("id") if isinstance(raw, dict) else None
+        if isinstance(eid, str) and eid in seen:
+            raise CatalogError(f"{path}: {key} '{eid}' appears twice in this file; each id once per file")
+        seen.add(eid)
     return items
 
 

@@ -17,8 +17,12 @@ def _between(lo, hi, unit=""):
     return Annotated[float, Field(ge=lo, le=hi, json_schema_extra={"unit": unit})]
 
 
+# strict: a boolean or a text is never read as a number; no infinite or NaN values anywhere
+STRICT = dict(extra="forbid", frozen=True, strict=True, allow_inf_nan=False)
+
+
 class _Entry(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(**STRICT)
 
 
 class SteinmetzBand(_Entry):
@@ -71,7 +75,7 @@ class Material(_Entry):
     cut_residual_gap_mm: _between(0.0, 0.5, "mm") = 0.0
     thermal_conductivity_w_mk: _between(0.1, 400.0, "W/(m K)") = 4.0
 
-    model_config = ConfigDict(extra="forbid", frozen=True, populate_by_name=True)
+    model_config = ConfigDict(**STRICT, populate_by_name=True)
 
     @model_validator(mode="after")
     def _rolloff_matches_gap(self):

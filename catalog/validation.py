@@ -2,6 +2,8 @@
 from __future__ import annotations
 
 import json
+import math
+import typing
 
 from pydantic import BaseModel, ValidationError
 
@@ -30,14 +32,41 @@ def one_line(exc: ValidationError, model: type[BaseModel], prefix: str) -> str:
     if err["type"] == "missing":
         return f"{prefix}: field '{where}' is missing: this field is required"
     if err["type"] == "extra_forbidden":
-        parent = model
-        for part in err["loc"][:-1]:  # walk into nested models to list the right field names
-            field = parent.model_fields.get(str(part)) if isinstance(part, str) else None
-            ann = getattr(field, "annotation", None) if field else None
-            if isinstance(ann, type) and issubclass(ann, BaseModel):
-                parent = ann
+        parent = _model_at(model, err["loc"][:-1])
         allowed = ", ".join(f.alias or n for n, f in parent.model_fields.items())
         return f"{prefix}: unknown field '{where}'; valid fields: {allowed}"
     if not where:
         return f"{prefix}: {expected}"
-    return f"{prefix}: field '{where}' = {json.dumps(err.get('input'), default=str)}: {expected.lower()}"
+    if err["type"] == "value_error":          # a check across fields: say what is wrong, not the whole section
+        return f"{prefix}: {where}: {expected}"
+    return f"{prefix}: field '{where}' = {_as_written(err.get('input'))}: {_lower_first(expected)}"
+
+
+def _as_written(value) -> str:
+    """A value as the user wrote it in TOML (inf and nan included)."""
+    if isinstance(value, float) and not math.isfinite(value):
+        return "nan" if math.isnan(value) else ("inf" if value > 0 else "-inf")
+    return json.dumps(value, default=str)
+
+
+def _lower_first(text: str) -> str:
+    """'Input should be ...' -> 'input should be ...'; allowed values and patterns keep their case."""
+    return text[:1].lower() + text[1:]
+
+
+def _model_at(model: type[BaseModel], loc) -> type[BaseModel]:
+    """The model that holds the field at ``loc`` (through nested models and lists of them)."""
+    parent = model
+    for part in loc:
+        if not isinstance(part, str):
+            continue                              # an index into a list: same model
+        field = parent.model_fields.get(part)
+        ann = getattr(field, "annotation", None) if field else None
+        candidates = [ann] + list(typing.get_args(ann)) if ann is not None else []
+        for c in candidates:
+            inner = [c] + list(typing.get_args(c))
+            found = next((x for x in inner if isinstance(x, type) and issubclass(x, BaseModel)), None)
+            if found:
+                parent = found
+                break
+    return parent

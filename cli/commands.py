@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import sys
 from datetime import datetime
 from pathlib import Path
@@ -17,7 +18,7 @@ from fluxfront.catalog import load_catalog
 from fluxfront.design.designs import read_design_table, resolve_designs
 from fluxfront.design.evaluator import evaluate, objective_columns, prepare
 from fluxfront.design.spec import demo_spec_path, demo_spec_text, load_problem
-from fluxfront.design.table import evaluation_frame
+from fluxfront.design.table import evaluation_frame, result_columns
 from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
 from fluxfront.optimizer.resume import resume
@@ -72,7 +73,7 @@ def cmd_init(args) -> int:
 def cmd_evaluate(args) -> int:
     spec, _, catalog = load_problem(args.spec, args.catalog)
     table = read_design_table(args.designs)
-    designs = resolve_designs(table, catalog, source=str(args.designs))
+    designs = resolve_designs(table, catalog, source=str(args.designs), allowed_extra=result_columns())
     ctx = prepare(spec, catalog)
     one = len(designs) == 1
     if args.json and not one:
@@ -102,8 +103,8 @@ def _default_run_dir(spec_path) -> Path:
 
 
 def _positive(name, value, integer=True):
-    if value is not None and value <= 0:
-        raise InputError(f"--{name} = {value}: expected a positive {'whole number' if integer else 'number'}")
+    if value is not None and not (math.isfinite(value) and value > 0):
+        raise InputError(f"--{name} = {value}: expected a positive {'whole number' if integer else 'finite number'}")
 
 
 def _settings(args) -> Settings:
@@ -111,6 +112,8 @@ def _settings(args) -> Settings:
     _positive("generations", args.generations)
     _positive("hours", args.hours, integer=False)
     _positive("stagnation", args.stagnation)
+    if args.seed < 0:
+        raise InputError(f"--seed = {args.seed}: expected a whole number >= 0")
     if args.jobs == 0 or args.jobs < -1:
         raise InputError(f"--jobs = {args.jobs}: expected a positive number of processes, or -1 for all cores")
     generations = args.generations if args.generations is not None or args.hours is not None else 300
@@ -132,8 +135,10 @@ def cmd_run(args) -> int:
     spec, _, catalog = load_problem(args.spec, args.catalog)
     out = Path(args.out) if args.out else _default_run_dir(args.spec)
     if out.exists():
-        raise InputError(f"--out {out}: already exists; a run never writes over another (resume it with "
-                         f"'fluxfront resume {out}')")
+        hint = (f"resume it with 'fluxfront resume {out}'" if (out / "checkpoint.npz").is_file() else
+                "it holds no checkpoint (a run stopped before its first one, or another folder): remove it or "
+                "choose another --out")
+        raise InputError(f"--out {out}: already exists; a run never writes over another ({hint})")
     return _finish(start(spec, Path(args.spec), catalog, out, settings, quiet=args.quiet))
 
 

@@ -1,7 +1,8 @@
 """The ``fluxfront`` command: one entry point, one subcommand per job.
 
-Exit codes: 0 done; 2 bad input (one line on stderr naming the field and the expected form);
-3 a search found no feasible design (the run folder is still written); 130 interrupted.
+Exit codes: 0 done; 1 the system refused a read or write (full disk, permissions); 2 bad input (one
+line on stderr naming the field and the expected form); 3 a search found no feasible design (the
+run folder is still written); 130 interrupted (resume continues exactly).
 """
 from __future__ import annotations
 
@@ -17,6 +18,7 @@ from . import commands
 EXIT_BAD_INPUT = 2
 EXIT_NO_FEASIBLE = commands.EXIT_NO_FEASIBLE
 EXIT_INTERRUPTED = commands.EXIT_INTERRUPTED
+EXIT_OS_ERROR = 1        # the system refused a read or write (files already written stay intact)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -37,6 +39,10 @@ def main(argv=None) -> int:
     except (CatalogError, InputError) as exc:
         print(f"fluxfront: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except OSError as exc:             # a full disk, a folder where a file was named, no permission
+        name = f" {exc.filename}" if getattr(exc, "filename", None) else ""
+        print(f"fluxfront: error: cannot read or write{name}: {exc.strerror or exc}", file=sys.stderr)
+        return EXIT_OS_ERROR
     except KeyboardInterrupt:
         print("fluxfront: interrupted", file=sys.stderr)
         return EXIT_INTERRUPTED

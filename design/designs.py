@@ -8,6 +8,7 @@ for powder materials.
 """
 from __future__ import annotations
 
+import csv
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
@@ -92,13 +93,24 @@ def read_design_table(path) -> pd.DataFrame:
         return pd.DataFrame([data])
     if path.suffix.lower() == ".csv":
         try:
-            return pd.read_csv(path, dtype=str, skipinitialspace=True)
+            with open(path, encoding="utf-8", newline="") as fh:
+                header = next(csv.reader(fh), [])
+            frame = pd.read_csv(path, dtype=str, skipinitialspace=True)
         except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError) as exc:
             raise InputError(f"{path}: not a readable CSV ({str(exc).splitlines()[0]})") from None
+        names = [h.strip() for h in header]
+        twice = sorted({h for h in names if names.count(h) > 1})
+        if twice:
+            raise InputError(f"{path}: column '{twice[0]}' appears twice; each column once")
+        return frame
     raise InputError(f"{path}: designs file must end in .csv or .toml")
 
 
 def _numbers(df, col, source, integer, lo, hi):
+    flags = df[col].map(lambda v: isinstance(v, (bool, np.bool_)))
+    if flags.any():
+        i = int(np.argmax(flags.to_numpy()))
+        raise InputError(f"{source} row {i + 1}: column '{col}' = {df[col].iloc[i]!r}: expected a number, not true/false")
     values = pd.to_numeric(df[col], errors="coerce").to_numpy(dtype=float)
     bad = ~np.isfinite(values) | (values < lo) | (values > hi)
     if integer:
@@ -123,11 +135,18 @@ def _ids(df, col, table: dict, source, kind):
     return idx.to_numpy(dtype=int)
 
 
-def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs") -> Designs:
+def resolve_designs(df: pd.DataFrame, catalog: Catalog, source="designs", allowed_extra=None) -> Designs:
     """Check every row against the catalog and the physics; return arrays.
 
+    ``allowed_extra``: further columns that may stand beside the design columns and are ignored
+    (result columns of a front); any other column is refused, as a misspelt design column would be.
     Raises InputError naming the row, column, value and the valid choices for the first bad cell.
     """
+    if allowed_extra is not None:
+        unknown = [c for c in df.columns if c not in DESIGN_COLUMNS and c not in allowed_extra]
+        if unknown:
+            raise InputError(f"{source}: unknown column '{unknown[0]}'; design columns are {', '.join(DESIGN_COLUMNS)} "
+                             "(result columns of a front are ignored)")
     df = df.assign(**{c: v for c, v in OPTIONAL_COLUMNS.items() if c not in df.columns})
     missing = [c for c in DESIGN_COLUMNS if c not in df.columns]
     if missing:

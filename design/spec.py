@@ -23,7 +23,8 @@ from fluxfront.models.thermal import MOUNTINGS, THERMAL_MODELS
 
 
 class _Section(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    # strict: a boolean or a text is never read as a number; no infinite or NaN values anywhere
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True, allow_inf_nan=False)
 
 
 class Converter(_Section):

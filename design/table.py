@@ -43,3 +43,9 @@ def evaluation_frame(ev: Evaluation, catalog: Catalog) -> pd.DataFrame:
         if f"nominal_g_{name}" in ev.figures:
             df[f"nominal_g_{name}"] = ev.figures[f"nominal_g_{name}"]
     return df
+
+
+def result_columns() -> set[str]:
+    """Every column ``evaluation_frame`` can write besides the design columns."""
+    names = set(OBJECTIVE_COLUMNS) | set(KEY_FIGURES) | set(RAW_LIMIT_VALUES) | set(TOLERANCE_COLUMNS) | {"feasible"}
+    return names | {f"g_{c}" for c in CONSTRAINTS} | {f"nominal_g_{c}" for c in CONSTRAINTS}

@@ -30,6 +30,7 @@ class Island:
     G: np.ndarray                 # (P, C)
     rng_state: dict               # numpy bit generator state (JSON-safe)
     offspring: int                # designs to evaluate per generation (its budget)
+    size: int                     # population kept by survival
 
     def generator(self) -> np.random.Generator:
         g = np.random.Generator(np.random.PCG64())
@@ -65,7 +66,25 @@ def new_island(material: int, space: DesignSpace, size: int, seed_seq: np.random
     X = space.canonical(space.sample(rng, size))
     X = X[operators.unique_new(X, np.zeros((0, X.shape[1])))]
     empty = np.zeros((0, 3)), np.zeros((0, 0))
-    return Island(material, X, empty[0], empty[1], rng.bit_generator.state, size)
+    return Island(material, X, empty[0], empty[1], rng.bit_generator.state, size, size)
+
+
+def seeded_island(material: int, space: DesignSpace, size: int, seed_seq: np.random.SeedSequence,
+                  X: np.ndarray, F: np.ndarray, G: np.ndarray) -> Island:
+    """An island whose first population is the best of already evaluated rows (whole-space numbering)
+    that fall in its space: the reference sample is not spent twice.  Random draws if none fall in."""
+    local = {int(g): i for i, g in enumerate(space.pair_global)} if space.pair_global is not None else None
+    pair = np.rint(X[:, 0]).astype(int)
+    mine = np.array([local is None or p in local for p in pair]) & (X[:, 6] >= space.lower[6]) & (
+        X[:, 6] <= space.upper[6])
+    if not mine.any():
+        return new_island(material, space, size, seed_seq)
+    rows = X[mine].copy()
+    if local is not None:
+        rows[:, 0] = [local[int(p)] for p in pair[mine]]
+    keep = operators.survive(F[mine], G[mine], size)
+    rng = np.random.Generator(np.random.PCG64(seed_seq))
+    return Island(material, rows[keep], F[mine][keep], G[mine][keep], rng.bit_generator.state, size, size)
 
 
 def _offspring(island: Island, space: DesignSpace, rng: np.random.Generator) -> np.ndarray:
@@ -105,8 +124,7 @@ def evolve(ctx: TolerantContext, islands: list[Island], spaces: list[DesignSpace
                     X, F, G = kids, f_kids, g_kids
                 else:
                     X, F, G = np.vstack([island.X, kids]), np.vstack([island.F, f_kids]), np.vstack([island.G, g_kids])
-                size = max(len(island.X), 1) if len(island.F) else len(kids)
-                keep = operators.survive(F, G, size)
+                keep = operators.survive(F, G, island.size)
                 island = replace(island, X=X[keep], F=F[keep], G=G[keep])
             islands[k] = replace(island, rng_state=rng.bit_generator.state)
     return islands, records

@@ -66,11 +66,25 @@ def rank_and_crowding(F: np.ndarray, G: np.ndarray):
     return rank, crowd
 
 
-def survive(F: np.ndarray, G: np.ndarray, size: int) -> np.ndarray:
-    """Indices of the ``size`` rows NSGA-II keeps: by rank, then by crowding (largest first)."""
+INFEASIBLE_SHARE = 0.2   # survivor slots kept for the least-violating infeasible designs
+
+
+def survive(F: np.ndarray, G: np.ndarray, size: int, infeasible_share: float = INFEASIBLE_SHARE) -> np.ndarray:
+    """Indices of the ``size`` rows kept: by rank, then crowding (largest first), with a share of the
+    slots for the infeasible designs closest to feasibility.
+
+    Feasible pockets of an inductor design space are small and far apart (a few turns or a core
+    size away); a population of feasible designs only would settle in the first pocket it finds.
+    The designs at the edge of the limits are the bridges to the next pocket, so a share of them
+    survives (the share is taken only when there are more feasible designs than slots).
+    """
     rank, crowd = rank_and_crowding(F, G)
     order = np.lexsort((-crowd, rank))
-    return np.sort(order[:size])
+    infeasible = violation(G) > 0
+    reserve = min(int(infeasible_share * size), int(infeasible.sum()))
+    feasible_first = order[~infeasible[order]][: size - reserve]
+    rest = order[~np.isin(order, feasible_first)][: size - len(feasible_first)]
+    return np.sort(np.concatenate([feasible_first, rest]))
 
 
 def tournament(rank: np.ndarray, crowd: np.ndarray, count: int, rng: np.random.Generator) -> np.ndarray:

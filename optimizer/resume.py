@@ -108,25 +108,30 @@ def resume(run_dir, catalog_dirs=(), quiet: bool = False, more_generations: int 
     """
     folder = RunFolder(Path(run_dir))
     meta, settings = read_settings(folder)
-    if "effective_settings" in meta:
-        _, settings = read_settings(folder, "effective_settings")
-    spec, _ = load_spec(folder.file("spec.toml"))
-    catalog = snapshot_catalog(folder)
-    check_override(folder, spec, catalog, catalog_dirs)
-    settings.scheduler = scheduler
-    progress = checkpoint.load(folder.path)
-    extended = more_generations is not None or more_hours is not None
-    if more_generations is not None:
-        settings.generations, settings.hours, settings.stagnation = progress.generation + more_generations, None, None
-    if more_hours is not None:
-        settings.hours = progress.elapsed_s / 3600 + more_hours
-        settings.generations, settings.stagnation = None, None
-    attach_log(folder)
-    now = datetime.now(timezone.utc).isoformat(timespec="seconds")
-    meta["resumed"] = meta.get("resumed", []) + [now]
-    if extended:
-        meta["extensions"] = meta.get("extensions", []) + [{"time": now, "more_generations": more_generations,
-                                                            "more_hours": more_hours}]
-        meta["effective_settings"] = asdict(settings)
-    folder.write_json("run.json", meta)
-    return resume_state(folder, spec, catalog, settings, extended, quiet, progress)
+    folder.lock()
+    try:
+        if "effective_settings" in meta:
+            _, settings = read_settings(folder, "effective_settings")
+        spec, _ = load_spec(folder.file("spec.toml"))
+        catalog = snapshot_catalog(folder)
+        check_override(folder, spec, catalog, catalog_dirs)
+        settings.scheduler = scheduler
+        progress = checkpoint.load(folder.path)
+        extended = more_generations is not None or more_hours is not None
+        if more_generations is not None:
+            settings.generations = progress.generation + more_generations
+            settings.hours = settings.stagnation = None
+        if more_hours is not None:
+            settings.hours = progress.elapsed_s / 3600 + more_hours
+            settings.generations, settings.stagnation = None, None
+        attach_log(folder)
+        now = datetime.now(timezone.utc).isoformat(timespec="seconds")
+        meta["resumed"] = meta.get("resumed", []) + [now]
+        if extended:
+            meta["extensions"] = meta.get("extensions", []) + [{"time": now, "more_generations": more_generations,
+                                                                "more_hours": more_hours}]
+            meta["effective_settings"] = asdict(settings)
+        folder.write_json("run.json", meta)
+        return resume_state(folder, spec, catalog, settings, extended, quiet, progress)
+    finally:
+        folder.unlock()

@@ -41,7 +41,7 @@ from fluxfront.design.tolerance import TolerantContext, evaluate_tolerant, toler
 
 from . import state as checkpoint
 from .front import ParetoArchive, hypervolume
-from .islands import new_island
+from .islands import seeded_island
 from .parallel import MIN_CHUNK, PopulationEvaluator
 from .runfolder import RunFolder, catalog_used, command_line, library_versions
 from .space import DesignSpace
@@ -93,16 +93,16 @@ def island_spaces(space: DesignSpace, catalog: Catalog) -> list[DesignSpace]:
     return out
 
 
-def reference_point(ctx: TolerantContext, space: DesignSpace, seed: int, evaluator) -> np.ndarray:
-    """Hypervolume reference fixed for the run: 1.1 x the worst feasible objectives of a seeded sample.
-
-    With fewer than ten feasible designs in the sample, the 95th percentile of all its designs is used.
-    """
-    x = space.sample(np.random.default_rng([seed, 1]), REFERENCE_SAMPLE)
+def reference_sample(ctx: TolerantContext, space: DesignSpace, seed: int, evaluator):
+    """A seeded uniform sample of the space, evaluated: it fixes the hypervolume reference (1.1 x the
+    worst feasible objectives; with fewer than ten feasible designs, the 95th percentile of all) and
+    seeds the islands' first populations.  Returns (X, objectives, constraints, feasible, reference)."""
+    x = space.canonical(space.sample(np.random.default_rng([seed, 1]), REFERENCE_SAMPLE))
     ev = evaluator(space.decode(x))
-    F = ev.objectives[ev.feasible] if ev.feasible.sum() >= 10 else ev.objectives
-    worst = F.max(axis=0) if ev.feasible.sum() >= 10 else np.percentile(F, 95, axis=0)
-    return 1.1 * worst
+    enough = ev.feasible.sum() >= 10
+    F = ev.objectives[ev.feasible] if enough else ev.objectives
+    worst = F.max(axis=0) if enough else np.percentile(F, 95, axis=0)
+    return x, ev.objectives, ev.constraints, ev.feasible, 1.1 * worst
 
 
 def pareto_frame(ctx: TolerantContext, space: DesignSpace, archive: ParetoArchive) -> pd.DataFrame:
@@ -250,10 +250,13 @@ def search(ctx: TolerantContext, space: DesignSpace, folder: RunFolder, settings
 
 def _new_state(ctx: TolerantContext, space: DesignSpace, settings: Settings, evaluator) -> State:
     spaces = island_spaces(space, ctx.catalog)
-    islands = [new_island(m, sub, settings.population, np.random.SeedSequence([settings.seed, k]))
+    X, F, G, ok, reference = reference_sample(ctx, space, settings.seed, evaluator)
+    islands = [seeded_island(m, sub, settings.population, np.random.SeedSequence([settings.seed, k]), X, F, G)
                for k, (m, sub) in enumerate(zip(space.materials, spaces))]
-    reference = reference_point(ctx, space, settings.seed, evaluator)
-    return State(islands, ParetoArchive(space.lower.size, 3), reference, evaluations=REFERENCE_SAMPLE)
+    archive = ParetoArchive(space.lower.size, 3)
+    materials = list(space.materials)
+    archive.update(X, F, ok, [materials.index(m) for m in space.pair_material[np.rint(X[:, 0]).astype(int)]])
+    return State(islands, archive, reference, evaluations=REFERENCE_SAMPLE)
 
 
 def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings: Settings,
@@ -268,21 +271,25 @@ def start(spec: Spec, spec_path: Path, catalog: Catalog, out_dir: Path, settings
     with PopulationEvaluator(ctx, settings.jobs, settings.scheduler, settings.min_chunk) as workers:
         out_dir.mkdir(parents=True, exist_ok=False)
         folder = RunFolder(out_dir)
-        _attach_log(folder)
-        shutil.copyfile(spec_path, folder.file("spec.toml"))
-        folder.write_json("catalog.json", catalog_used(catalog, space))
-        state = _new_state(ctx, space, settings, workers)
-        folder.write_json("run.json", {
-            "tool": "fluxfront", "versions": library_versions(), "command_line": command_line(),
-            "start_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "settings": asdict(settings),
-            "spec_file": str(spec_path), "design_space_size": space.size, "reference_point": state.reference.tolist(),
-            "islands": [list(catalog.materials)[m] for m in space.materials],
-            "objectives": list(ctx.objectives), "stop_reason": None,
-            "tolerance_corners": [c.name for c in ctx.corners],
-        })
-        checkpoint.save(folder.path, state)
-        log.info("run started in %s: seed %d, population %d", out_dir, settings.seed, settings.population)
-        return search(ctx, space, folder, settings, state, workers, quiet)
+        folder.lock()
+        try:
+            _attach_log(folder)
+            shutil.copyfile(spec_path, folder.file("spec.toml"))
+            folder.write_json("catalog.json", catalog_used(catalog, space))
+            state = _new_state(ctx, space, settings, workers)
+            folder.write_json("run.json", {
+                "tool": "fluxfront", "versions": library_versions(), "command_line": command_line(),
+                "start_time": datetime.now(timezone.utc).isoformat(timespec="seconds"), "settings": asdict(settings),
+                "spec_file": str(spec_path), "design_space_size": space.size, "reference_point": state.reference.tolist(),
+                "islands": [list(catalog.materials)[m] for m in space.materials],
+                "objectives": list(ctx.objectives), "stop_reason": None,
+                "tolerance_corners": [c.name for c in ctx.corners],
+            })
+            checkpoint.save(folder.path, state)
+            log.info("run started in %s: seed %d, population %d", out_dir, settings.seed, settings.population)
+            return search(ctx, space, folder, settings, state, workers, quiet)
+        finally:
+            folder.unlock()
 
 
 def resume_state(folder: RunFolder, spec: Spec, catalog: Catalog, settings: Settings, extended: bool,

@@ -16,6 +16,7 @@ Layout::
 """
 from __future__ import annotations
 
+import fcntl
 import io
 import json
 import os
@@ -27,7 +28,8 @@ from pathlib import Path
 import pandas as pd
 
 from fluxfront.catalog import Catalog
-from fluxfront.files import write_atomic
+from fluxfront.errors import InputError
+from fluxfront.files import remove_stale_temporaries, write_atomic
 
 from .space import DesignSpace
 
@@ -61,9 +63,37 @@ def catalog_used(catalog: Catalog, space: DesignSpace) -> dict:
     }
 
 
+class FolderBusy(InputError):
+    """Another process works in this run folder (one line, exit code 2)."""
+
+
 class RunFolder:
     def __init__(self, path):
         self.path = Path(path)
+        self._lock = None
+
+    def lock(self) -> None:
+        """Hold the folder's lock until the process ends (or unlock); a second process is refused."""
+        fh = open(self.file(".lock"), "a+", encoding="utf-8")
+        try:
+            fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except OSError:
+            fh.seek(0)
+            other = fh.read().strip() or "?"
+            fh.close()
+            raise FolderBusy(f"{self.path}: another fluxfront process (pid {other}) is working in this folder; "
+                             "wait for it to end or stop it, then resume") from None
+        fh.seek(0)
+        fh.truncate()
+        fh.write(str(os.getpid()))
+        fh.flush()
+        self._lock = fh
+        remove_stale_temporaries(self.path)     # left by a process killed while writing
+
+    def unlock(self) -> None:
+        if self._lock is not None:
+            self._lock.close()
+            self._lock = None
 
     def file(self, name: str) -> Path:
         return self.path / name

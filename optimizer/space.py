@@ -54,7 +54,7 @@ def _steps(lo: float, hi: float, step: float, digits: int) -> np.ndarray:
 def _choose(requested: list[str], table: dict, kind: str) -> list[str]:
     if requested == ["all"]:
         return list(table)
-    unknown = [r for r in requested if r not in table]
+    unknown = [r for r in requested if r not in table]      # (dict lookups: linear in the catalog)
     if unknown:
         raise InputError(f"search.{kind}s: unknown {kind} {unknown[0]!r}; valid: all, {', '.join(table)}")
     return list(dict.fromkeys(requested))
@@ -79,10 +79,11 @@ class DesignSpace:
         mats = _choose(s.materials, catalog.materials, "material")
         shapes = _choose(s.shapes, catalog.shapes, "shape")
         wires = _choose(s.wires, catalog.wires, "wire")
-        vol = catalog.shape_table().set_index("id")["ve_cm3"]
+        vol = catalog.shape_table().set_index("id")["ve_cm3"].to_dict()
+        by_volume = sorted(shapes, key=lambda x: vol[x])          # once: the space builds in linear time
         pairs = [(catalog.material_index(mname), catalog.shape_index(sname))
                  for mname in mats
-                 for sname in sorted(shapes, key=lambda x: vol[x])
+                 for sname in by_volume
                  if catalog.shapes[sname].family in catalog.materials[mname].families]
         if not pairs:
             raise InputError("search: no allowed shape is made in any allowed material; "

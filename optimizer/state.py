@@ -59,8 +59,8 @@ def save(folder: Path, state: State) -> None:
     meta = {"format": FORMAT, "generation": state.generation, "evaluations": state.evaluations,
             "elapsed_s": state.elapsed_s, "sweep_evaluations": state.sweep_evaluations, "violation": state.violation,
             "violated_share": state.violated_share, "parts": state.parts,
-            "islands": [{"material": isl.material, "offspring": isl.offspring, "rng_state": isl.rng_state}
-                        for isl in state.islands],
+            "islands": [{"material": isl.material, "offspring": isl.offspring, "size": isl.size,
+                         "rng_state": isl.rng_state} for isl in state.islands],
             "shapes": {k: list(v.shape) for k, v in arrays.items()}}
     buf = io.BytesIO()
     np.savez(buf, meta=np.array(json.dumps(meta)), **arrays)
@@ -108,11 +108,14 @@ def load(folder: Path) -> State:
                 jpath, f"field {key} is not a non-negative number")
     islands = []
     for k, raw in enumerate(meta.get("islands") or []):
-        _expect(isinstance(raw, dict) and isinstance(raw.get("material"), int) and isinstance(raw.get("offspring"), int)
-                and raw["offspring"] > 0 and f"island{k}_X" in arrays, jpath, f"island {k} is incomplete")
+        _expect(isinstance(raw, dict) and all(isinstance(raw.get(f), int) and not isinstance(raw.get(f), bool)
+                                              for f in ("material", "offspring", "size"))
+                and raw["offspring"] > 0 and raw["size"] > 0 and f"island{k}_X" in arrays, jpath,
+                f"island {k} is incomplete")
         islands.append(Island(raw["material"], arrays[f"island{k}_X"], arrays[f"island{k}_F"].reshape(-1, 3)
                               if arrays[f"island{k}_F"].size else np.zeros((0, 3)),
-                              arrays[f"island{k}_G"], _rng_state(raw.get("rng_state"), jpath), raw["offspring"]))
+                              arrays[f"island{k}_G"], _rng_state(raw.get("rng_state"), jpath), raw["offspring"],
+                              raw["size"]))
     _expect(len(islands) > 0, jpath, "no islands")
     kept = arrays["kept"]
     archive, polished = (_archive(arrays, name, npath) for name in ("archive", "polished"))

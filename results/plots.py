@@ -35,8 +35,13 @@ def save(fig, folder, name: str) -> list[Path]:
     return paths
 
 
+def plain(text) -> str:
+    """Catalog or spec text as matplotlib must show it: '$' would start math mode."""
+    return str(text).replace("$", r"\$")
+
+
 def _classes(front: pd.DataFrame, catalog) -> pd.Series:
-    return front["material"].map(lambda m: catalog.materials[m].class_ if m in catalog.materials else m)
+    return front["material"].map(lambda m: plain(catalog.materials[m].class_ if m in catalog.materials else m))
 
 
 def _colours(labels) -> dict:
@@ -138,7 +143,7 @@ def flux_map_figure(curves: pd.DataFrame, summary: pd.DataFrame):
             for i, pv in enumerate(densities):
                 g = grp[grp["loss_density_mw_cm3"] == pv]
                 ax.plot(g["f_khz"], g["b_loss_mt"], styles[i % 4], color=colours[mat],
-                        label=f"{mat}" if i == 0 else None)
+                        label=plain(mat) if i == 0 else None)
             ax.axhline(grp["b_saturation_mt"].iloc[0], color=colours[mat], linewidth=0.8, alpha=0.5)
             for _, r in summary[summary["material"] == mat].iterrows():
                 if np.isfinite(r["crossover_khz"]):
@@ -160,7 +165,7 @@ def compare_fronts(fronts: dict[str, pd.DataFrame]):
         fig, ax = plt.subplots(figsize=(7.5, 5))
         for name, front in fronts.items():
             f = front.sort_values("volume_cm3")
-            ax.plot(f["volume_cm3"], f["total_loss_w"], "o", markersize=4, alpha=0.8, label=name)
+            ax.plot(f["volume_cm3"], f["total_loss_w"], "o", markersize=4, alpha=0.8, label=plain(name))
         ax.set_xlabel(AXIS["volume_cm3"])
         ax.set_ylabel(AXIS["total_loss_w"])
         ax.set_title("Pareto fronts of several runs")

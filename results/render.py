@@ -10,6 +10,7 @@ import base64
 import html
 import io
 import json
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -74,22 +75,27 @@ def render_html(title: str, sections) -> str:
     return "\n".join(out)
 
 
+def md(text) -> str:
+    """Text shown literally in Markdown: characters that would format or link are escaped."""
+    return re.sub(r"([\\`*_{}\[\]<>#|!$])", r"\\\1", str(text))
+
+
 def render_markdown(title: str, sections) -> tuple[str, list]:
-    out, files = [f"# {title}", "", f"> {SAFETY_NOTE}", ""], []
+    out, files = [f"# {md(title)}", "", f"> {SAFETY_NOTE}", ""], []
 
     def cell(x):
-        return str(x).replace("|", "/")
+        return md(x)
 
     for name, blocks in sections:
         out += [f"## {name}", ""]
         for block in blocks:
             kind = block[0]
             if kind == "p":
-                out += [block[1], ""]
+                out += [md(block[1]), ""]
             elif kind == "banner":
-                out += [f"> **WARNING: {block[1]}**", ""]
+                out += [f"> **WARNING: {md(block[1])}**", ""]
             elif kind == "ul":
-                out += [f"- {x}" for x in block[1]] + [""]
+                out += [f"- {md(x)}" for x in block[1]] + [""]
             elif kind in ("table", "keytable"):
                 head, rows = (block[1], block[2]) if kind == "table" else (["column", "value"], block[1])
                 out.append("| " + " | ".join(head) + " |")
@@ -99,5 +105,5 @@ def render_markdown(title: str, sections) -> tuple[str, list]:
             elif kind == "img":
                 fig = block[1]
                 files.append(fig)
-                out += [f"![{fig.caption}]({fig.name}.png)", ""]
+                out += [f"![{md(fig.caption)}]({fig.name}.png)", ""]
     return "\n".join(out), files
