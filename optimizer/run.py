@@ -224,7 +224,10 @@ def search(ctx: TolerantContext, space: DesignSpace, folder: RunFolder, settings
                                     f"HV {trace[-1] if trace else 0:.4f}", refresh=False)
                 bar.update(n)
     except KeyboardInterrupt:
+        # whatever the chunk in flight had changed, the last checkpoint is the last whole state
         stop, interrupted = "interrupted (the chunk in flight was discarded; resume with: fluxfront resume RUN_DIR)", True
+        state = checkpoint.load(folder.path)
+        folder.trim_history(state.generation)
     finally:
         if bar is not None:
             bar.close()

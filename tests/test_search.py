@@ -1,4 +1,5 @@
 """The search against an enumerated true front; run folders; resume; backends; no-feasible exit."""
+import json
 import os
 import signal
 import subprocess
@@ -82,7 +83,6 @@ def test_run_folder_contents(small_run):
                                      "elapsed_s"]
     assert history["generation"].tolist() == list(range(1, 13))
     assert history["hypervolume"].is_monotonic_increasing      # the archive never loses a point it dominated
-    import json
     meta = json.loads((small_run / "run.json").read_text())
     assert meta["settings"]["seed"] == 5 and meta["stop_reason"].startswith("reached 12")
     assert {"numpy", "pymoo", "python"} <= set(meta["versions"])
@@ -195,3 +195,38 @@ def test_time_budget_stagnation_and_keep_all(tmp_path, catalog):
     out = start(spec, demo_spec_path(), catalog, tmp_path / "s",
                 Settings(seed=1, population=4, generations=500, stagnation=3, jobs=1), quiet=True)
     assert out.generations < 500 and "hypervolume gained" in out.stop_reason
+
+
+@pytest.mark.parametrize("delay", [0.0, 0.3, 0.9])
+def test_ctrl_c_then_resume_gives_the_uninterrupted_front(tmp_path, small_run, delay):
+    # Ctrl-C at a moment after the first chunk: exit 130 (the chunk in flight is dropped), then
+    # resume ends exactly as the straight run
+    out = tmp_path / "interrupted"
+    cmd = [sys.executable, "-m", "fluxfront.cli", "run", str(demo_spec_path()), "--out", str(out), "--seed", "5",
+           "--population", "60", "--generations", "12", "--jobs", "1", "--quiet"]
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.time() + 60
+    while time.time() < deadline and not (out / "history.csv").is_file():
+        time.sleep(0.01)
+    time.sleep(delay)
+    proc.send_signal(signal.SIGINT)
+    code = proc.wait()
+    if code != 130:                  # the run had finished (or was shutting down) before the signal came
+        assert json.loads((out / "run.json").read_text())["stop_reason"].startswith("reached")
+    else:
+        assert main(["resume", str(out), "--quiet"]) == 0
+    pd.testing.assert_frame_equal(_front(out), _front(small_run))
+
+
+def test_a_second_process_on_one_run_folder_is_refused(small_run, capsys):
+    from fluxfront.optimizer.runfolder import RunFolder
+
+    holder = RunFolder(small_run)
+    holder.lock()
+    try:
+        before = (small_run / "run.json").read_bytes()
+        assert main(["resume", str(small_run), "--quiet"]) == 2
+        assert "another fluxfront process" in capsys.readouterr().err
+        assert (small_run / "run.json").read_bytes() == before
+    finally:
+        holder.unlock()
