@@ -171,6 +171,9 @@ def cmd_demo(args) -> int:
         pick = write_knee_sheet(outcome.folder)
         print(f"build sheet of the balanced design: {pick.folder / 'build_sheet.html'} (and build_sheet.md)")
         print(_pick_line(pick))
+        if not pick.robust:
+            print("  (the demo searches at nominal values; set [tolerance] enabled = true in your own spec for "
+                  "designs that meet every limit at every tolerance corner: README, 'Tolerances and yield')")
     return code
 
 
