@@ -138,7 +138,10 @@ class Catalog:
 
     # ---- lookups with errors that list the valid names ------------------------------------
     def _index(self, table: dict, kind: str, name: str) -> int:
-        positions = self.__dict__.setdefault(f"_positions_{kind}", {n: i for i, n in enumerate(table)})
+        key = f"_positions_{kind}"
+        if key not in self.__dict__:                     # built once: lookups in constant time
+            self.__dict__[key] = {n: i for i, n in enumerate(table)}
+        positions = self.__dict__[key]
         if name not in positions:
             raise CatalogError(f"unknown {kind} {name!r}; valid: {', '.join(table)}")
         return positions[name]

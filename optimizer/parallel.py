@@ -11,6 +11,10 @@ number of workers.
 from __future__ import annotations
 
 import contextlib
+import ctypes
+import os
+import signal
+import sys
 from dataclasses import replace
 
 import numpy as np
@@ -28,8 +32,29 @@ from .space import DesignSpace
 MIN_CHUNK = 2000  # about 40 ms of evaluation on one core: below that, process start-up and pickling dominate
 
 
+def die_with_parent() -> None:
+    """Ask Linux to end this worker process when its parent dies (even by kill -9); elsewhere nothing.
+
+    Called at the start of every task a worker runs (idempotent, a few microseconds).
+    """
+    if sys.platform.startswith("linux"):
+        try:
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, signal.SIGTERM)          # PR_SET_PDEATHSIG
+            if os.getppid() == 1:                 # the parent is already gone
+                os._exit(1)
+        except (OSError, AttributeError):
+            pass
+
+
 def _evaluate_part(ctx: TolerantContext, designs: Designs) -> Evaluation:
+    die_with_parent()
     return evaluate_tolerant(ctx, designs)
+
+
+def _evolve_part(ctx, islands, spaces, first_generation, generations):
+    die_with_parent()
+    return evolve(ctx, islands, spaces, first_generation, generations)
 
 
 def _balanced_groups(loads: list[int], workers: int) -> list[list[int]]:
@@ -103,8 +128,8 @@ class PopulationEvaluator:
         groups = _balanced_groups([isl.offspring for isl in islands], min(self.workers, len(islands)))
         if self._parallel is None or len(groups) <= 1:
             return evolve(ctx, islands, spaces, first_generation, generations)
-        results = self._parallel(delayed(evolve)(ctx, [islands[i] for i in g], [spaces[i] for i in g],
-                                                 first_generation, generations) for g in groups)
+        results = self._parallel(delayed(_evolve_part)(ctx, [islands[i] for i in g], [spaces[i] for i in g],
+                                                       first_generation, generations) for g in groups)
         out, records = list(islands), []
         for g, (done, recs) in zip(groups, results):
             for local, k in enumerate(g):
