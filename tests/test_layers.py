@@ -56,9 +56,14 @@ def test_models_import_nothing_of_ours():
 
 
 def test_one_top_level_package():
-    """Installing adds one package, fluxfront; every room lives inside it."""
+    """Installing adds one package, fluxfront; every room lives inside it, none beside it."""
     import importlib.metadata as md
 
-    dist = md.distribution("fluxfront")
-    tops = {Path(str(f)).parts[0] for f in dist.files if str(f).endswith(".py")}
-    assert tops <= {"fluxfront"}, tops
+    assert md.distribution("fluxfront").read_text("top_level.txt").split() == ["fluxfront"]
+    site = Path(fluxfront.__file__).parent.parent
+    for room in ROOMS:
+        assert (Path(fluxfront.__file__).parent / room / "__init__.py").is_file(), room
+        beside = site / room
+        assert not (beside.is_dir() and any((beside / name).is_file() for name in ("evaluator.py", "gap_field.py",
+                                                                                      "loader.py", "islands.py",
+                                                                                      "buildsheet.py", "commands.py")))
