@@ -13,9 +13,9 @@ def _umask() -> int:
 
 
 def remove_stale_temporaries(folder) -> int:
-    """Delete temporary files a killed process left behind in ``folder`` (ours: ``.NAME.*.tmp``)."""
+    """Delete temporary files a killed process left behind in ``folder`` and below (ours: ``.NAME.*.tmp``)."""
     count = 0
-    for tmp in Path(folder).glob(".*.tmp"):
+    for tmp in Path(folder).rglob(".*.tmp"):
         tmp.unlink(missing_ok=True)
         count += 1
     return count

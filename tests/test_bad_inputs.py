@@ -271,3 +271,51 @@ def test_any_value_is_refused_in_one_line_or_evaluates_to_finite_numbers(tmp_pat
 
         out = pd.read_csv(tmp / "out.csv").select_dtypes("number")
         assert out.notna().all().all() and (out.abs() < float("inf")).all().all()
+
+
+def test_a_crafted_checkpoint_cannot_run_code(tmp_path, capsys, tiny_run):
+    # a pickle that would create a file when unpickled, dressed as the checkpoint (and as an array
+    # inside one): resume refuses it in one line and the file never appears
+    import pickle
+    import zipfile
+
+    class Payload:
+        def __reduce__(self):
+            return (open, (str(tmp_path / "pwned"), "w"))
+
+    shutil.copytree(tiny_run, tmp_path / "run")
+    (tmp_path / "run" / "checkpoint.npz").write_bytes(pickle.dumps(Payload()))
+    _check(tmp_path, capsys, {}, ["resume", "{d}/run"], 2, "checkpoint.npz")
+    with zipfile.ZipFile(tmp_path / "run" / "checkpoint.npz", "w") as z:
+        z.writestr("meta.npy", pickle.dumps(Payload()))
+    _check(tmp_path, capsys, {}, ["resume", "{d}/run"], 2, "checkpoint.npz")
+    assert not (tmp_path / "pwned").exists()
+
+
+CATALOG_FIELDS = ["density_kg_m3 = 4800", "b_sat_t_25c = 0.49", "mu_initial = 2300", "t_max_c = 140",
+                  "price_per_kg = 8.0", "loss_temp_c2 = 1.4e-4", "k = 3.18", "alpha = 1.4"]
+
+
+@settings(max_examples=40, deadline=None)
+@given(field=st.sampled_from(CATALOG_FIELDS),
+       value=st.one_of(st.floats(allow_nan=True, allow_infinity=True), st.integers(-10**7, 10**7), st.booleans(),
+                       st.text(alphabet="xyz0.", max_size=3)))
+def test_any_catalog_value_is_refused_in_one_line_or_gives_finite_results(tmp_path_factory, field, value):
+    tmp = tmp_path_factory.mktemp("cat")
+    key = field.split(" = ")[0]
+    written = ("true" if value else "false") if isinstance(value, bool) else (
+        f'"{value}"' if isinstance(value, str) else ("nan" if value != value else (
+            ("inf" if value > 0 else "-inf") if abs(value) == float("inf") else repr(value))))
+    (tmp / "cat").mkdir()
+    entry = MATERIAL.replace("my_ferrite", "mnzn_ferrite_100k").replace('families = ["E"]', 'families = ["ETD"]')
+    (tmp / "cat" / "materials.toml").write_text(entry.replace(field, f"{key} = {written}", 1))
+    (tmp / "spec.toml").write_text(DEMO)
+    (tmp / "rows.csv").write_text(ROW_HEAD + ROW)
+    code = main(["evaluate", str(tmp / "spec.toml"), str(tmp / "rows.csv"), "--catalog", str(tmp / "cat"),
+                 "--out", str(tmp / "out.csv")])
+    assert code in (0, 2)
+    if code == 0:
+        import pandas as pd
+
+        out = pd.read_csv(tmp / "out.csv").select_dtypes("number")
+        assert out.notna().all().all() and (out.abs() < float("inf")).all().all()
