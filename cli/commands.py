@@ -25,6 +25,7 @@ from fluxfront.optimizer.resume import resume
 from fluxfront.optimizer.run import Outcome, Settings, start
 from fluxfront.optimizer.state import CheckpointError
 from fluxfront.results.buildsheet import write_pick
+from fluxfront.results.fits import write_loss_fit, write_rolloff_fit
 from fluxfront.results.fluxmap import crossover_lines, write_flux_map
 from fluxfront.results.picking import PICK_RULES, pick_rows
 from fluxfront.results.report import detail, summary_text
@@ -47,6 +48,14 @@ def _print_table(df: pd.DataFrame, as_json: bool) -> None:
         with pd.option_context("display.max_rows", None, "display.max_columns", None, "display.width", 200,
                                "display.max_colwidth", 60):
             print(df.to_string(index=False))
+
+
+def cmd_fit(args) -> int:
+    catalog = load_catalog(args.catalog)
+    out = Path(args.out) if args.out else Path(args.points).with_name(f"{Path(args.points).stem}-fit")
+    write = write_loss_fit if args.what == "fit-loss" else write_rolloff_fit
+    print("\n".join(write(args.points, out, args.id, args.base, catalog)))
+    return 0
 
 
 def cmd_catalog(args) -> int:
@@ -263,6 +272,23 @@ def _register_catalog(sub) -> None:
                         description="Validate a user catalog file or folder; exit 0 when valid, 2 otherwise.")
     q.add_argument("path", help="catalog folder, or one of materials.toml, shapes.toml, wires.toml, costs.toml")
     q.set_defaults(func=cmd_catalog)
+    for what, text, default_base, columns in (
+            ("fit-loss", "Steinmetz bands (and the loss-temperature fit) from measured loss-density points",
+             "mnzn_ferrite_100k", "frequency (f_hz, f_khz, f_mhz), peak flux (b_t, b_mt), loss density (pv_w_m3, "
+             "pv_kw_m3, pv_mw_cm3) and optionally temperature (t_c)"),
+            ("fit-rolloff", "a powder roll-off fit from permeability fractions against DC field",
+             "fesial_powder_60", "DC field (h_a_per_m, h_ka_per_m, h_oe) and the permeability fraction (fraction, "
+             "or percent)")):
+        q = csub.add_parser(what, help=f"fit {text}",
+                            description=f"Fit {text}; columns: {columns}. Writes OUT/materials.toml (use it with "
+                                        "--catalog OUT) and a plot of data against fit.")
+        q.add_argument("points", metavar="POINTS.csv", help="measured points, the unit in each column name")
+        q.add_argument("--id", required=True, help="id of the new material entry")
+        q.add_argument("--base", default=default_base,
+                       help=f"material whose other fields the entry copies (default {default_base})")
+        q.add_argument("--out", metavar="DIR", help="output folder (default POINTS-fit beside the points file)")
+        catalog_arg(q)
+        q.set_defaults(func=cmd_fit)
 
 
 def _register_design(sub) -> None:

@@ -15,7 +15,9 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
+from fluxfront.catalog.fitting import predict  # noqa: E402
 from fluxfront.files import write_atomic  # noqa: E402
+from fluxfront.models.magnetics import powder_permeability_fraction  # noqa: E402
 
 AXIS = {"volume_cm3": "boxed volume [cm³]", "total_loss_w": "weighted total loss [W]", "cost": "cost [currency units]",
         "f_sw_khz": "switching frequency [kHz]"}
@@ -214,3 +216,37 @@ def inductance_curve(current_a, inductance_uh, i_peak: float):
         ax.legend(fontsize=8)
         ax.set_title("Inductance against current")
         return fig
+
+
+def loss_fit(points: dict, fit):
+    """Measured loss density against the fitted bands, per temperature (log-log)."""
+    with plt.rc_context(STYLE):
+        fig, ax = plt.subplots(figsize=(7, 4.5))
+        t = points.get("t", np.full(len(points["f"]), fit.t_ref))
+        model = predict(fit.bands, points["f"], points["b"]) * (1 + fit.c1 * (t - fit.t_ref)
+                                                                 + fit.c2 * (t - fit.t_ref) ** 2)
+        for temp in np.unique(t):
+            sel = t == temp
+            ax.loglog(points["pv"][sel] * 1e-3, model[sel] * 1e-3, "o", label=f"{temp:g} C")
+        lo, hi = points["pv"].min() * 1e-3, points["pv"].max() * 1e-3
+        ax.plot([lo, hi], [lo, hi], "k--", linewidth=1, label="fit = data")
+        ax.set_xlabel("measured loss density [kW/m³]")
+        ax.set_ylabel("fitted loss density [kW/m³]")
+        ax.legend(fontsize=8)
+        fig.tight_layout()
+    return fig
+
+
+def rolloff_fit(points: dict, coefficients):
+    """Measured permeability fraction against DC field, with the fitted curve."""
+    with plt.rc_context(STYLE):
+        fig, ax = plt.subplots(figsize=(7, 4.5))
+        h = np.sort(points["h"])
+        grid = np.geomspace(h.min(), h.max(), 200)
+        ax.semilogx(points["h"], points["fraction"], "o", label="data")
+        ax.semilogx(grid, powder_permeability_fraction(grid, *coefficients), "-", label="fit")
+        ax.set_xlabel("DC field [A/m]")
+        ax.set_ylabel("permeability / initial permeability")
+        ax.legend()
+        fig.tight_layout()
+    return fig
