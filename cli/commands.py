@@ -25,7 +25,7 @@ from fluxfront.optimizer.resume import resume
 from fluxfront.optimizer.run import Outcome, Settings, start
 from fluxfront.optimizer.state import CheckpointError
 from fluxfront.results.buildsheet import write_pick
-from fluxfront.results.fits import write_loss_fit, write_rolloff_fit
+from fluxfront.results.fits import write_calibration, write_loss_fit, write_rolloff_fit
 from fluxfront.results.fluxmap import crossover_lines, write_flux_map
 from fluxfront.results.picking import PICK_RULES, pick_rows
 from fluxfront.results.report import detail, summary_text
@@ -55,6 +55,12 @@ def cmd_fit(args) -> int:
     out = Path(args.out) if args.out else Path(args.points).with_name(f"{Path(args.points).stem}-fit")
     write = write_loss_fit if args.what == "fit-loss" else write_rolloff_fit
     print("\n".join(write(args.points, out, args.id, args.base, catalog)))
+    return 0
+
+
+def cmd_calibrate(args) -> int:
+    out = Path(args.out) if args.out else Path(args.measured).with_name(f"{Path(args.measured).stem}-calibration")
+    print("\n".join(write_calibration(args.spec, args.design, args.measured, out, args.catalog)))
     return 0
 
 
@@ -321,6 +327,22 @@ def _register_design(sub) -> None:
     p.set_defaults(func=cmd_flux_map)
 
 
+def _register_calibrate(sub) -> None:
+    """Calibration against a measured prototype."""
+    p = sub.add_parser("calibrate", help="set the model's factors from a measured prototype",
+                       description="From bench readings of a built design (MEASURED.toml: inductance, optionally "
+                                   "inductance at a bias, DC resistance, temperature rise at a stated loss, core "
+                                   "loss at a stated excitation), set the effective gap (or permeability), "
+                                   "dissipation and core-loss factors; write a catalog override and the spec keys "
+                                   "for the next run.")
+    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("design", metavar="DESIGN", help="the built design (TOML, or a one-row CSV)")
+    p.add_argument("measured", metavar="MEASURED.toml", help="the readings, in a [measured] section")
+    p.add_argument("--out", metavar="DIR", help="output folder (default MEASURED-calibration beside it)")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_calibrate)
+
+
 def _register_search(sub) -> None:
     """Searching: run, resume, demo."""
     p = sub.add_parser("run", help="search the design space for the volume-loss-cost Pareto front",
@@ -395,3 +417,4 @@ def register(sub) -> None:
     _register_design(sub)
     _register_search(sub)
     _register_results(sub)
+    _register_calibrate(sub)

@@ -75,7 +75,7 @@ def circuit(ctx: Context, d: Designs, b: Build) -> Circuit:
     gap_legs = S["gap_legs"][d.shape]
     legs = np.maximum(gap_legs, 1)
     gap_area = np.where(gap_legs > 0, geo.gap_area, geo.ae)
-    gap_total = d.gap + np.where(M.tape_wound[m], M.cut_residual_gap[m] * legs, 0.0)
+    gap_total = (d.gap + np.where(M.tape_wound[m], M.cut_residual_gap[m] * legs, 0.0)) * ctx.spec.model.gap_factor
     each = np.where(gap_total > 0, gap_total, 1e-9) / (legs * d.gaps)
     fringe = np.where(dist | (gap_total <= 0), 1.0, ctx.fringing(each, gap_area, geo.gap_window_height / d.gaps))
     mu = M.mu_initial[m] * d.mu_factor

@@ -55,6 +55,13 @@ DISSIPATION_MODELS = {"natural": _natural, "forced": _forced, "empirical": _empi
 assert tuple(DISSIPATION_MODELS) == thermal.THERMAL_MODELS
 
 
+def dissipation(spec, box, dt):
+    """The spec's dissipation model times its calibration factor: (power [W], slope [W/K]) at rise dt."""
+    p, dp = DISSIPATION_MODELS[spec.thermal.model](spec, box, dt)
+    k = spec.thermal.dissipation_factor
+    return p * k, dp * k
+
+
 @dataclass(frozen=True)
 class AcFactors:
     """Winding AC terms at three temperatures, interpolated by the heat balance."""
@@ -224,7 +231,6 @@ def _newton(ctx: Context, d: Designs, t: _Terms, ac: AcFactors):
     spec, m = ctx.spec, d.material
     n, n_ops = len(d), len(ctx.ops)
     amb = spec.limits.ambient_c
-    dissipation = DISSIPATION_MODELS[spec.thermal.model]
     every = np.nonzero(np.ones((n, n_ops), dtype=bool))
     # starting guess: the loss at a 30 K rise spread with a typical 12 W/(m2 K) of convection plus
     # radiation (only a start; the Newton steps below settle the balance)

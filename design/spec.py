@@ -71,6 +71,8 @@ class Thermal(_Section):
     # a number fixes it instead
     internal_rise_k: Annotated[float, Field(ge=0, le=100)] | None = None
     winding_conductivity_w_mk: Annotated[float, Field(gt=0, le=400)] = 0.5
+    # calibration (fluxfront calibrate): the measured part's heat dissipation over the model's at one rise
+    dissipation_factor: Annotated[float, Field(ge=0.2, le=5.0)] = 1.0
     bobbin_conductivity_w_mk: Annotated[float, Field(gt=0, le=400)] = 0.25
 
 
@@ -114,6 +116,9 @@ class ModelOptions(_Section):
     samples_per_half_cycle: Annotated[int, Field(ge=4, le=2048, multiple_of=2)] = 64
     harmonics: Annotated[int, Field(ge=1, le=200)] = 15
     fringing: Literal[tuple(FRINGING_MODELS)] = "log"
+    # calibration against a measured prototype (fluxfront calibrate): the discrete gaps' effective
+    # length over their ground length (fringing and face flatness the model misses)
+    gap_factor: Annotated[float, Field(ge=0.3, le=3.0)] = 1.0
 
 
 class Search(_Section):

@@ -10,6 +10,11 @@ import tomli_w
 
 from fluxfront.catalog import Catalog, CatalogError, load_catalog
 from fluxfront.catalog.fitting import fit_loss, fit_rolloff, read_points
+from fluxfront.design.calibration import calibrate, calibrated_material, read_measured
+from fluxfront.design.designs import read_design_table, resolve_designs
+from fluxfront.design.evaluator import prepare
+from fluxfront.design.spec import load_problem
+from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
 
 from . import plots
@@ -74,3 +79,33 @@ def write_rolloff_fit(points_path, out, new_id: str, base_id: str, catalog: Cata
             f"  fraction = 1 / ({a:.4g} + {b:.4g} H^{c:.3f}), H in oersted (the catalog's form)",
             f"  {_summary(errors)}", f"wrote {path} (material '{new_id}') and {figure}",
             f"use it with: --catalog {out}"]
+
+
+def write_calibration(spec_path, design_path, measured_path, out, extra_catalogs=()) -> list[str]:
+    """Calibration factors from a measured prototype, a before/after table, and what the next run uses:
+    OUT/materials.toml (the material with its factors) and OUT/calibration.toml (the spec's factors)."""
+    spec, _, catalog = load_problem(spec_path, extra_catalogs)
+    designs = resolve_designs(read_design_table(design_path), catalog, source=str(design_path))
+    if len(designs) != 1:
+        raise InputError(f"{design_path}: calibration takes one design (the one that was built); "
+                         f"the file holds {len(designs)}")
+    meas = read_measured(measured_path)
+    result = calibrate(prepare(spec, catalog), designs, meas)
+    out = Path(out)
+    today = date.today().isoformat()
+    entry = calibrated_material(catalog, designs, result.factors, Path(measured_path).name, today)
+    material_path = _write(out, entry)
+    settings = {"model": {"gap_factor": result.factors.get("gap_factor", spec.model.gap_factor)},
+                "thermal": {"dissipation_factor": result.factors.get("dissipation_factor",
+                                                                     spec.thermal.dissipation_factor)}}
+    spec_path_out = write_atomic(out / "calibration.toml", "# copy these keys into the spec's sections\n"
+                                 + tomli_w.dumps(settings))
+    table = ["| quantity | model before | model after | measured |", "|---|---|---|---|"]
+    table += [f"| {a} | {b} | {c} | {d} |" for a, b, c, d in result.rows]
+    write_atomic(out / "calibration.md", "# Calibration against the measured prototype\n\n" + "\n".join(table) + "\n")
+    lines = ["calibration factors: " + ", ".join(f"{k} {v:.4g}" for k, v in result.factors.items())]
+    lines += [f"  {a}: model {b} -> {c}, measured {d}" for a, b, c, d in result.rows]
+    lines += [f"wrote {material_path} (material '{entry['id']}' with the factors), {spec_path_out} (gap and "
+              f"dissipation factors for the spec) and {out / 'calibration.md'}",
+              f"search again with: the keys of {spec_path_out} in the spec, and --catalog {out}"]
+    return lines
