@@ -193,8 +193,7 @@ def search(ctx: TolerantContext, space: DesignSpace, folder: RunFolder, settings
     """Run chunks of generations until a stop rule holds; write the run folder as it goes."""
     meta = folder.read_json("run.json")
     spaces = island_spaces(space, ctx.catalog)
-    history = pd.read_csv(folder.file("history.csv")) if folder.file("history.csv").is_file() else None
-    trace = [] if history is None else history["hypervolume"].tolist()
+    trace = folder.hypervolume_trace()
     bar = None if quiet else tqdm(total=settings.generations, initial=state.generation, unit="gen",
                                   dynamic_ncols=True, leave=True)
     started = time.monotonic() - state.elapsed_s

@@ -123,12 +123,29 @@ class RunFolder:
             fh.flush()
             os.fsync(fh.fileno())
 
-    def trim_history(self, generation: int) -> None:
-        """Drop history rows past ``generation`` (written after the checkpoint a resume starts from)."""
+    def hypervolume_trace(self) -> list[float]:
+        """The hypervolume column of history.csv (empty when there is none yet)."""
         path = self.file("history.csv")
-        if path.is_file():
-            rows = pd.read_csv(path)
-            write_atomic(path, rows[rows["generation"] <= generation].to_csv(index=False))
+        if not path.is_file() or path.stat().st_size == 0:
+            return []
+        return pd.read_csv(path)["hypervolume"].tolist()
+
+    def trim_history(self, generation: int) -> None:
+        """Keep the header and the whole rows up to ``generation``: rows written after the checkpoint a
+        resume starts from, and a row torn by a kill in the middle of an append, go."""
+        path = self.file("history.csv")
+        if not path.is_file():
+            return
+        lines = path.read_text(encoding="utf-8", errors="replace").splitlines()
+        if not lines:
+            return
+        header, width = lines[0], lines[0].count(",")
+        keep = [header] if header.startswith("generation,") else []
+        for line in lines[1:] if keep else []:
+            first = line.split(",", 1)[0]
+            if line.count(",") == width and first.isdigit() and int(first) <= generation:
+                keep.append(line)
+        write_atomic(path, "\n".join(keep) + ("\n" if keep else ""))
 
 
 def command_line() -> str:

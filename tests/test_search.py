@@ -197,7 +197,7 @@ def test_time_budget_stagnation_and_keep_all(tmp_path, catalog):
     assert out.generations < 500 and "hypervolume gained" in out.stop_reason
 
 
-@pytest.mark.parametrize("delay", [0.0, 0.3, 0.9])
+@pytest.mark.parametrize("delay", [0.0, 0.005, 0.02, 0.3, 0.9])
 def test_ctrl_c_then_resume_gives_the_uninterrupted_front(tmp_path, small_run, delay):
     # Ctrl-C at a moment after the first chunk: exit 130 (the chunk in flight is dropped), then
     # resume ends exactly as the straight run
