@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 from pydantic import BaseModel
 
-from fluxfront.models import geometry, winding
+from fluxfront.models import geometry, magnetics, winding
 
 from .schema import Copper, Costs, Family, Litz, Material, RoundWireRule, Shape
 from .validation import validate_entry
@@ -103,6 +103,9 @@ class MaterialArrays:
     rolloff_a: np.ndarray     # discrete-gap materials: a = 1, b = 0 (no roll-off)
     rolloff_b: np.ndarray
     rolloff_c: np.ndarray
+    rolloff_tabulated: np.ndarray   # the roll-off is a table of points (bool)
+    rolloff_fraction: np.ndarray    # (n_materials, G): tabulated roll-offs on magnetics.ROLLOFF_GRID_H
+    rolloff_integral: np.ndarray    # (n_materials, G): their running integral [A/m]
     stacking_factor: np.ndarray
     loss_temp_ref: np.ndarray
     loss_temp_c1: np.ndarray
@@ -122,6 +125,18 @@ class MaterialArrays:
     cut_loss_factor: np.ndarray
     cut_residual_gap: np.ndarray    # per joint [m]
     thermal_conductivity: np.ndarray
+
+
+def _rolloff_tables(mats) -> dict:
+    """Tabulated roll-offs resampled on the common grid (rows of ones for the others, never used)."""
+    grid = magnetics.ROLLOFF_GRID_H
+    frac = np.ones((len(mats), len(grid)))
+    cum = np.tile(grid, (len(mats), 1))
+    for i, m in enumerate(mats):
+        if m.rolloff_table_h_a_per_m is not None:
+            frac[i], cum[i] = magnetics.tabulate_rolloff(m.rolloff_table_h_a_per_m, m.rolloff_table_fraction)
+    return {"rolloff_tabulated": np.array([m.rolloff_table_h_a_per_m is not None for m in mats]),
+            "rolloff_fraction": frac, "rolloff_integral": cum}
 
 
 class Catalog:
@@ -173,6 +188,7 @@ class Catalog:
         return MaterialArrays(
             density=col("density_kg_m3"), b_sat_25c=col("b_sat_t_25c"), b_sat_tempco=col("b_sat_tempco_per_k"),
             mu_initial=col("mu_initial"),
+            **_rolloff_tables(mats),
             rolloff_a=np.array([m.rolloff_a or 1.0 for m in mats]),
             rolloff_b=np.array([m.rolloff_b or 0.0 for m in mats]),
             rolloff_c=np.array([m.rolloff_c or 1.0 for m in mats]),

@@ -56,6 +56,9 @@ class Material(_Entry):
     rolloff_a: Annotated[float, Field(gt=0, le=10)] | None = None
     rolloff_b: Annotated[float, Field(gt=0, le=10)] | None = None
     rolloff_c: _between(0.3, 4.0) | None = None
+    # or the roll-off as measured points, interpolated in log H: DC field [A/m] and permeability fraction
+    rolloff_table_h_a_per_m: list[Annotated[float, Field(gt=0, le=1e7)]] | None = None
+    rolloff_table_fraction: list[Annotated[float, Field(gt=0, le=1.5)]] | None = None
     stacking_factor: _between(0.3, 1.0) = 1.0
     loss_temp_ref_c: _between(-40.0, 200.0, "C")
     loss_temp_c1: _between(-0.1, 0.1, "1/K")
@@ -80,10 +83,21 @@ class Material(_Entry):
     @model_validator(mode="after")
     def _rolloff_matches_gap(self):
         fit = (self.rolloff_a, self.rolloff_b, self.rolloff_c)
-        if self.gap_kind == "distributed" and any(v is None for v in fit):
-            raise ValueError("a distributed-gap material needs rolloff_a, rolloff_b and rolloff_c")
-        if self.gap_kind == "discrete" and any(v is not None for v in fit):
-            raise ValueError("a discrete-gap material takes no rolloff_* fit")
+        table = (self.rolloff_table_h_a_per_m, self.rolloff_table_fraction)
+        has_fit, has_table = all(v is not None for v in fit), all(v is not None for v in table)
+        if self.gap_kind == "distributed" and has_fit == has_table:
+            raise ValueError("a distributed-gap material needs rolloff_a, rolloff_b and rolloff_c, or instead "
+                             "rolloff_table_h_a_per_m with rolloff_table_fraction (one of the two)")
+        if any(v is not None for v in fit) and not has_fit:
+            raise ValueError("rolloff_a, rolloff_b and rolloff_c go together")
+        if self.gap_kind == "discrete" and (has_fit or any(v is not None for v in table)):
+            raise ValueError("a discrete-gap material takes no rolloff_* fit or table")
+        if has_table:
+            h, frac = table
+            if len(h) != len(frac) or len(h) < 3:
+                raise ValueError("rolloff_table_h_a_per_m and rolloff_table_fraction need the same length, 3 or more")
+            if any(b <= a for a, b in zip(h, h[1:])):
+                raise ValueError("rolloff_table_h_a_per_m must increase from point to point")
         bands = sorted(self.steinmetz, key=lambda b: b.f_min_hz)
         if any(hi.f_min_hz < lo.f_max_hz for lo, hi in zip(bands, bands[1:])):
             raise ValueError("steinmetz bands overlap in frequency")

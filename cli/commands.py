@@ -53,8 +53,11 @@ def _print_table(df: pd.DataFrame, as_json: bool) -> None:
 def cmd_fit(args) -> int:
     catalog = load_catalog(args.catalog)
     out = Path(args.out) if args.out else Path(args.points).with_name(f"{Path(args.points).stem}-fit")
-    write = write_loss_fit if args.what == "fit-loss" else write_rolloff_fit
-    print("\n".join(write(args.points, out, args.id, args.base, catalog)))
+    if args.what == "fit-loss":
+        lines = write_loss_fit(args.points, out, args.id, args.base, catalog)
+    else:
+        lines = write_rolloff_fit(args.points, out, args.id, args.base, catalog, table=args.table)
+    print("\n".join(lines))
     return 0
 
 
@@ -293,6 +296,9 @@ def _register_catalog(sub) -> None:
         q.add_argument("--base", default=default_base,
                        help=f"material whose other fields the entry copies (default {default_base})")
         q.add_argument("--out", metavar="DIR", help="output folder (default POINTS-fit beside the points file)")
+        if what == "fit-rolloff":
+            q.add_argument("--table", action="store_true",
+                           help="store the points as a table (interpolated in log H) instead of the fitted curve")
         catalog_arg(q)
         q.set_defaults(func=cmd_fit)
 

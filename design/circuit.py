@@ -21,7 +21,9 @@ class Circuit:
     """Magnetic circuit of each design (arrays of length n)."""
 
     distributed: np.ndarray   # distributed-gap (powder) material (bool)
-    powder: np.ndarray        # indices of the powder designs: bias-dependent terms are computed for these only
+    powder: np.ndarray        # indices of the powder designs with a fitted roll-off (bias-dependent terms)
+    tabulated: np.ndarray     # indices of the powder designs whose roll-off is a table of points
+    table_rows: tuple         # (fraction, integral) rows on magnetics.ROLLOFF_GRID_H for those
     fringe: np.ndarray        # fringing factor of each discrete gap (1 for powder)
     gap_total: np.ndarray     # total gap in the path, a cut pair's residual joints included [m]
     gap_share: np.ndarray     # share of the ampere-turns that drops across the discrete gaps
@@ -46,6 +48,11 @@ class Circuit:
         bf = self.l0 * current / (self.turns * self.ae)
         bf[pw] = magnetics.powder_flux_density(self.n_over_le[pw] * current[pw], self.mu_initial[pw], a[pw], b[pw],
                                                c[pw])
+        tb = self.tabulated
+        if tb.size:
+            frac, integral = self.table_rows
+            bf[tb] = magnetics.tabulated_flux_density(self.n_over_le[tb] * current[tb], self.mu_initial[tb],
+                                                      integral, frac)
         return bf
 
     def kept_fraction(self, current):
@@ -58,6 +65,10 @@ class Circuit:
         col = (slice(None), None) if out.ndim == 2 else (slice(None),)
         out[pw] = magnetics.powder_permeability_fraction(self.n_over_le[pw][col] * cur, a[pw][col], b[pw][col],
                                                          c[pw][col])
+        tb = self.tabulated
+        if tb.size:
+            h = self.n_over_le[tb][col] * (current[tb] if np.ndim(current) else current)
+            out[tb] = magnetics.tabulated_permeability_fraction(h, self.table_rows[0])
         return out
 
 
@@ -87,8 +98,11 @@ def circuit(ctx: Context, d: Designs, b: Build) -> Circuit:
     band, in_band = core_loss.select_band(f, M.band_f_min[m], M.band_f_max[m])
     k_i, alpha, beta = ctx.band_ki[m, band], M.band_alpha[m, band], M.band_beta[m, band]
     scale = M.cut_loss_factor[m] * d.k_factor
+    table = M.rolloff_tabulated[m]
+    tb = np.nonzero(dist & table)[0]
     return Circuit(
-        distributed=dist, powder=np.nonzero(dist)[0], fringe=fringe, gap_total=np.where(dist, 0.0, gap_total),
+        distributed=dist, powder=np.nonzero(dist & ~table)[0], tabulated=tb,
+        table_rows=(M.rolloff_fraction[m[tb]], M.rolloff_integral[m[tb]]), fringe=fringe, gap_total=np.where(dist, 0.0, gap_total),
         gap_share=share, section_ratio=b.ae / (geo.a_min * M.stacking_factor[m]), l0=l0, turns=N, ae=b.ae,
         n_over_le=N / geo.le, mu_initial=mu, rolloff=(M.rolloff_a[m], M.rolloff_b[m], M.rolloff_c[m]),
         band=band, in_band=in_band, hf_scale=k_i * f**alpha * (N * b.ae * f) ** (-beta) * b.ve * scale,

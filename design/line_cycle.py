@@ -88,7 +88,7 @@ def line_cycle(ctx: Context, d: Designs, b: Build, c: Circuit, keep_samples: boo
     M = ctx.catalog.material_arrays
     m, f, n = d.material, d.f_sw, len(d)
     lb = ctx.line_band[m]
-    pw = c.powder
+    pw = np.concatenate([c.powder, c.tabulated])       # powder designs: the roll-off shapes the ripple
     per = {k: np.empty((n, len(ctx.ops))) for k in PER_OP}
     harm = np.empty((n, len(ctx.ops), len(ctx.harmonics)))
     samples = []

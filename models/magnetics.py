@@ -133,3 +133,54 @@ def saturation_flux_density(b_sat_25c, tempco, temperature_c):
     25 C and the material's limit (common practice, no source).
     """
     return np.asarray(b_sat_25c) * (1.0 + np.asarray(tempco) * (np.asarray(temperature_c, dtype=float) - 25.0))
+
+
+# The common grid on which tabulated roll-offs are resampled: log-spaced DC field [A/m]
+ROLLOFF_GRID_H = np.logspace(0.0, 6.5, 651)
+
+
+def tabulate_rolloff(h_points, fraction_points, grid=ROLLOFF_GRID_H):
+    """A measured roll-off on the common grid: the fraction (linear in log H, held at the ends) and
+    ``int_0^H fraction dh`` [A/m] (trapezoids; below the grid's first point the first fraction holds).
+
+    Returns (fraction on the grid, its running integral on the grid).
+    """
+    frac = np.interp(np.log(grid), np.log(np.asarray(h_points, dtype=float)), np.asarray(fraction_points, dtype=float))
+    cum = np.concatenate([[frac[0] * grid[0]], np.diff(grid) * 0.5 * (frac[1:] + frac[:-1])]).cumsum()
+    return frac, cum
+
+
+def _grid_lookup(h, rows, grid):
+    """Linear interpolation in log H of per-design table ``rows`` (n, G) at fields ``h`` (n,) or (n, S)."""
+    h = np.abs(np.asarray(h, dtype=float))
+    step = np.log(grid[1] / grid[0])
+    u = np.clip(np.log(np.maximum(h, grid[0]) / grid[0]) / step, 0.0, len(grid) - 1.000001)
+    i = u.astype(np.intp)
+    two_d = h.ndim == 2
+    take = (lambda idx: np.take_along_axis(rows, idx, axis=1)) if two_d else (
+        lambda idx: rows[np.arange(len(rows)), idx])
+    lo, hi = take(i), take(i + 1)
+    return lo + (u - i) * (hi - lo), h
+
+
+def tabulated_permeability_fraction(h, fraction_rows, grid=ROLLOFF_GRID_H):
+    """Permeability fraction at field ``h`` [A/m] from tabulated roll-offs (one row per design) [-].
+
+    Notes
+    -----
+    Linear in log H between the measured points; the first and last fractions hold beyond them.
+    """
+    value, _ = _grid_lookup(h, fraction_rows, grid)
+    return value
+
+
+def tabulated_flux_density(h, mu_initial, integral_rows, fraction_rows, grid=ROLLOFF_GRID_H):
+    """Flux density ``mu0 mu_i int_0^H fraction dh`` [T] from tabulated roll-offs (one row per design).
+
+    Below the grid's first field the first fraction holds (``B = mu0 mu_i f_0 H``).
+    """
+    integral, h = _grid_lookup(h, integral_rows, grid)
+    first = fraction_rows[:, :1] if np.ndim(h) == 2 else fraction_rows[:, 0]
+    below = h < grid[0]
+    integral = np.where(below, first * h, integral)
+    return MU0 * np.asarray(mu_initial, dtype=float) * integral

@@ -64,14 +64,30 @@ def write_loss_fit(points_path, out, new_id: str, base_id: str, catalog: Catalog
     return lines
 
 
-def write_rolloff_fit(points_path, out, new_id: str, base_id: str, catalog: Catalog) -> list[str]:
-    """The powder roll-off fit ``1/(a + b H_Oe^c)`` from permeability fractions against DC field."""
+def write_rolloff_fit(points_path, out, new_id: str, base_id: str, catalog: Catalog, table: bool = False) -> list[str]:
+    """The powder roll-off fit ``1/(a + b H_Oe^c)`` from permeability fractions against DC field, or
+    (``table``) the points themselves, stored with the field in A/m and interpolated in log H."""
     points_path, out = Path(points_path), Path(out)
     points, used = read_points(points_path, {"h": True, "fraction": True})
     base = catalog.materials.get(base_id)
     if base is not None and base.gap_kind != "distributed":
         raise CatalogError(f"--base {base_id!r}: a roll-off belongs to a distributed-gap (powder) material")
     a, b, c, errors = fit_rolloff(points["h"], points["fraction"], points_path)
+    if table:
+        order = np.argsort(points["h"])
+        h, frac = points["h"][order], points["fraction"][order]
+        if np.any(np.diff(h) <= 0):
+            raise CatalogError(f"{points_path}: a roll-off table needs each field value once")
+        entry = _entry(catalog, base_id, new_id, {"rolloff_table_h_a_per_m": h.tolist(),
+                                                  "rolloff_table_fraction": frac.tolist()}, points_path)
+        for key in ("rolloff_a", "rolloff_b", "rolloff_c"):
+            entry.pop(key, None)
+        path = _write(out, entry)
+        figure = plots.save(plots.rolloff_fit(points, (a, b, c)), out, "rolloff_fit")[0]
+        return [f"read {len(h)} points ({', '.join(used.values())}) from {points_path}",
+                f"  stored as a table of {len(h)} points, field in A/m, interpolated in log H (a fit for "
+                f"comparison: 1 / ({a:.4g} + {b:.4g} H_Oe^{c:.3f}), {_summary(errors)})",
+                f"wrote {path} (material '{new_id}') and {figure}", f"use it with: --catalog {out}"]
     entry = _entry(catalog, base_id, new_id, {"rolloff_a": a, "rolloff_b": b, "rolloff_c": c}, points_path)
     path = _write(out, entry)
     figure = plots.save(plots.rolloff_fit(points, (a, b, c)), out, "rolloff_fit")[0]

@@ -101,3 +101,53 @@ def test_bad_point_files_are_refused_in_one_line(tmp_path, capsys, text, message
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1 and message in err, err
     assert not (tmp_path / "o").exists()
+
+
+def test_rolloff_table_matches_the_fit_it_was_sampled_from(tmp_path, demo_context, catalog):
+    # a table of 120 points sampled from the built-in fit of a powder: the evaluator's inductance at
+    # peak and peak flux agree with the fitted material's within the interpolation error (0.5 %)
+    from fluxfront.design.designs import resolve_designs
+    from fluxfront.design.evaluator import evaluate, prepare
+
+    m = catalog.materials["fesial_powder_60"]
+    h = np.geomspace(10, 3e5, 120)         # linear in log H: the error falls as the square of the step
+    frac = magnetics.powder_permeability_fraction(h, m.rolloff_a, m.rolloff_b, m.rolloff_c)
+    entry = m.model_dump(by_alias=True, exclude_none=True)
+    for key in ("rolloff_a", "rolloff_b", "rolloff_c"):
+        entry.pop(key)
+    entry.update(id="table_powder", rolloff_table_h_a_per_m=h.tolist(), rolloff_table_fraction=frac.tolist())
+    import tomli_w
+    (tmp_path / "cat").mkdir()
+    (tmp_path / "cat" / "materials.toml").write_text(tomli_w.dumps({"material": [entry]}))
+    both = load_catalog([tmp_path / "cat"])
+    rows = pd.DataFrame([dict(material=mid, shape="T57/26/15", stack=2, turns=45, gap_mm=0, gaps=1, wire="awg16-g2",
+                              parallel=1, f_sw_khz=65) for mid in ("fesial_powder_60", "table_powder")])
+    ev = evaluate(prepare(demo_context.spec, both), resolve_designs(rows, both))
+    for key in ("inductance_at_peak_uh", "b_peak_t", "ripple_pp_max_a", "total_loss_w"):
+        assert ev.figures[key][1] == pytest.approx(ev.figures[key][0], rel=5e-3), key
+
+
+def test_tabulated_flux_is_the_integral_of_the_fraction():
+    # against scipy quadrature of the same interpolated fraction (linear in log H)
+    from scipy import integrate
+
+    h_pts, f_pts = np.array([100.0, 1e3, 1e4, 5e4]), np.array([1.0, 0.9, 0.5, 0.2])
+    frac, cum = magnetics.tabulate_rolloff(h_pts, f_pts)
+    rows_f, rows_c = frac[None, :], cum[None, :]
+    for h in (50.0, 800.0, 2e4, 4e5):
+        g = lambda x: np.interp(np.log(max(x, 1.0)), np.log(h_pts), f_pts)   # noqa: E731
+        expected = magnetics.MU0 * 60 * integrate.quad(g, 0, h, limit=200, points=[100, 1e3, 1e4, 5e4])[0]
+        got = magnetics.tabulated_flux_density(np.array([h]), np.array([60.0]), rows_c, rows_f)[0]
+        assert got == pytest.approx(expected, rel=2e-3)
+
+
+def test_fit_rolloff_table_from_oersted_points(tmp_path, capsys):
+    h_oe = np.array([5, 10, 20, 40, 80, 160, 320.0])
+    frac = 1 / (1 + 1.43e-3 * h_oe**1.6)
+    pd.DataFrame({"h_oe": h_oe, "fraction": frac}).to_csv(tmp_path / "r.csv", index=False)
+    assert main(["catalog", "fit-rolloff", str(tmp_path / "r.csv"), "--id", "my_table", "--table",
+                 "--out", str(tmp_path / "fit")]) == 0
+    m = load_catalog([tmp_path / "fit"]).materials["my_table"]
+    assert m.rolloff_a is None
+    np.testing.assert_allclose(m.rolloff_table_h_a_per_m, h_oe * magnetics.OERSTED)   # stored in A/m
+    np.testing.assert_allclose(m.rolloff_table_fraction, frac)
