@@ -24,12 +24,12 @@ from fluxfront.files import write_atomic
 from fluxfront.optimizer.resume import resume
 from fluxfront.optimizer.run import Outcome, Settings, start
 from fluxfront.optimizer.state import CheckpointError
-from fluxfront.results.buildsheet import write_pick
+from fluxfront.results.buildsheet import write_pick, write_typed_sheet
 from fluxfront.results.fits import write_calibration, write_loss_fit, write_rolloff_fit
 from fluxfront.results.fluxmap import crossover_lines, write_flux_map
 from fluxfront.results.picking import PICK_RULES, pick_rows
 from fluxfront.results.report import detail, summary_text
-from fluxfront.results.runs import compare_runs, load_run, write_knee_sheet, write_plots
+from fluxfront.results.runs import compare_runs, load_run, run_trace, write_knee_sheet, write_plots
 
 EXIT_NO_FEASIBLE = 3   # a search found no feasible design (the run folder is still written)
 EXIT_INTERRUPTED = 130   # Ctrl-C: the last finished chunk is saved, resume continues exactly
@@ -212,7 +212,7 @@ def cmd_pick(args) -> int:
                      max_loss_w=args.max_loss_w, max_cost=args.max_cost, by=args.by,
                      objectives=objective_columns(spec))
     for row in rows:
-        pick = write_pick(args.run_dir, ctx, front, row)
+        pick = write_pick(args.run_dir, ctx, front, row, run_trace(args.run_dir))
         r = front.iloc[row]
         print(f"row {row}: {r.volume_cm3:.1f} cm3, inductor loss {r.total_loss_w:.2f} W, cost {r.cost:.2f} -> "
               f"{pick.folder / 'build_sheet.html'}")
@@ -228,6 +228,14 @@ def _pick_line(pick) -> str:
     most = f"; fails most: {y.most_failing} ({y.failing[y.most_failing]:.1%})" if y.most_failing else ""
     return (f"  {state}\n  margin at the worst corner (negative = violated): {margins}\n"
             f"  yield {y.share:.1%} of {y.samples} Monte Carlo parts (seed {y.seed}){most}")
+
+
+def cmd_sheet(args) -> int:
+    out = Path(args.out) if args.out else Path(args.design).with_name(f"{Path(args.design).stem}-sheet")
+    pick = write_typed_sheet(args.spec, args.design, out, args.catalog)
+    print(f"build sheet: {pick.folder / 'build_sheet.html'} (and build_sheet.md)")
+    print(_pick_line(pick))
+    return 0
 
 
 def cmd_flux_map(args) -> int:
@@ -307,15 +315,15 @@ def _register_design(sub) -> None:
     """Spec, evaluation and material comparison before a search."""
     p = sub.add_parser("init", help="write the commented demo spec as a starting point",
                        description="Write the demo spec, commented field by field, to FILE.")
-    p.add_argument("file", metavar="FILE")
+    p.add_argument("file", metavar="FILE", help="where to write the spec (TOML)")
     p.add_argument("--force", action="store_true", help="replace FILE if it exists")
     p.set_defaults(func=cmd_init)
 
     p = sub.add_parser("evaluate", help="evaluate designs from a TOML (one) or CSV (many) file",
                        description="Evaluate one design (TOML, or a one-row CSV) or many (CSV) against SPEC. "
                                    "Design columns: material, shape, stack, turns, gap_mm, wire, parallel, f_sw_khz.")
-    p.add_argument("spec", metavar="SPEC")
-    p.add_argument("designs", metavar="DESIGNS")
+    p.add_argument("spec", metavar="SPEC", help="the design spec (TOML; fluxfront init writes a commented one)")
+    p.add_argument("designs", metavar="DESIGNS", help="design rows: a .toml (one design) or a .csv (many)")
     p.add_argument("--out", metavar="FILE", help="write the CSV (or, with --json, the JSON) here")
     p.add_argument("--json", action="store_true",
                    help="one design: print every intermediate quantity, line-cycle samples included")
@@ -325,12 +333,24 @@ def _register_design(sub) -> None:
     p = sub.add_parser("flux-map", help="compare materials: loss-limited against saturation-limited ripple flux",
                        description="For every allowed material, the largest ripple flux amplitude that keeps the core "
                                    "loss density at a limit, against frequency, beside what saturation allows.")
-    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("spec", metavar="SPEC", help="the design spec (TOML; fluxfront init writes a commented one)")
     p.add_argument("--loss-density", type=float, nargs="+", default=[100.0, 300.0], metavar="MW_PER_CM3",
                    help="core loss density limits in mW/cm3 (default 100 300)")
     p.add_argument("--out", metavar="DIR", help="output folder (default runs/<spec>-flux-map)")
     catalog_arg(p)
     p.set_defaults(func=cmd_flux_map)
+
+
+def _register_sheet(sub) -> None:
+    """The build sheet of a design typed in by hand."""
+    p = sub.add_parser("sheet", help="write the build sheet of a design typed in by hand",
+                       description="Write the build sheet (HTML and Markdown) of one design typed in by hand, "
+                                   "evaluated against SPEC, with every tolerance corner and its yield.")
+    p.add_argument("spec", metavar="SPEC", help="the design spec (TOML)")
+    p.add_argument("design", metavar="DESIGN", help="one design: TOML keys, or a one-row CSV, of the design columns")
+    p.add_argument("--out", metavar="DIR", help="output folder (default DESIGN-sheet beside it)")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_sheet)
 
 
 def _register_calibrate(sub) -> None:
@@ -341,7 +361,7 @@ def _register_calibrate(sub) -> None:
                                    "loss at a stated excitation), set the effective gap (or permeability), "
                                    "dissipation and core-loss factors; write a catalog override and the spec keys "
                                    "for the next run.")
-    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("spec", metavar="SPEC", help="the design spec (TOML; fluxfront init writes a commented one)")
     p.add_argument("design", metavar="DESIGN", help="the built design (TOML, or a one-row CSV)")
     p.add_argument("measured", metavar="MEASURED.toml", help="the readings, in a [measured] section")
     p.add_argument("--out", metavar="DIR", help="output folder (default MEASURED-calibration beside it)")
@@ -354,7 +374,7 @@ def _register_search(sub) -> None:
     p = sub.add_parser("run", help="search the design space for the volume-loss-cost Pareto front",
                        description="Multi-objective search (NSGA-II) over material, core, stack, turns, gap, wire, "
                                    "parallel wires and switching frequency; writes a run folder.")
-    p.add_argument("spec", metavar="SPEC")
+    p.add_argument("spec", metavar="SPEC", help="the design spec (TOML; fluxfront init writes a commented one)")
     p.add_argument("--out", metavar="DIR", help="run folder (default runs/<spec>-<time>)")
     _search_args(p)
     catalog_arg(p)
@@ -362,7 +382,7 @@ def _register_search(sub) -> None:
 
     p = sub.add_parser("resume", help="continue a stopped or killed run",
                        description="Continue a run from its last checkpoint; ends as if it had never stopped.")
-    p.add_argument("run_dir", metavar="RUN_DIR")
+    p.add_argument("run_dir", metavar="RUN_DIR", help="a run folder written by fluxfront run")
     extend = p.add_mutually_exclusive_group()
     extend.add_argument("--more-generations", type=int, metavar="G",
                         help="run G generations beyond the checkpoint (time and stagnation rules no longer stop it)")
@@ -377,11 +397,11 @@ def _register_search(sub) -> None:
                        description="Search the built-in demo scenario, write a run folder, plots and the build "
                                    "sheet of the balanced design, and print where they are.")
     p.add_argument("--out", metavar="DIR", help="run folder (default runs/demo-<time>)")
-    p.add_argument("--seed", type=int, default=1)
-    p.add_argument("--generations", type=int, default=400, metavar="G")
+    p.add_argument("--seed", type=int, default=1, help="random seed (default 1)")
+    p.add_argument("--generations", type=int, default=400, metavar="G", help="generations (default 400)")
     p.add_argument("--jobs", type=int, default=1, metavar="J",
                    help="worker processes (default 1: a generation of a few hundred designs is too small to split)")
-    p.add_argument("--quiet", action="store_true")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.set_defaults(func=cmd_demo)
 
 
@@ -389,21 +409,21 @@ def _register_results(sub) -> None:
     """Results of a run: plots, picks and comparisons."""
     p = sub.add_parser("plot", help="plot a run's front and progress",
                        description="Write the front, pairwise, frequency and progress plots (PNG and SVG) to RUN_DIR/plots/.")
-    p.add_argument("run_dir", metavar="RUN_DIR")
+    p.add_argument("run_dir", metavar="RUN_DIR", help="a run folder written by fluxfront run")
     catalog_arg(p)
     p.set_defaults(func=cmd_plot)
 
     p = sub.add_parser("pick", help="choose designs from a front and write their build sheets",
                        description="Choose a design of RUN_DIR's front by row, by knee, or by limits and a rule; "
                                    "write RUN_DIR/picks/row<N>/build_sheet.html and .md.")
-    p.add_argument("run_dir", metavar="RUN_DIR")
+    p.add_argument("run_dir", metavar="RUN_DIR", help="a run folder written by fluxfront run")
     how = p.add_mutually_exclusive_group()
     how.add_argument("--row", type=int, metavar="N", help="row N of pareto.csv (from 0)")
     how.add_argument("--knee", action="store_true",
                      help="the balanced design: closest to the ideal point with each objective scaled to 0..1")
-    p.add_argument("--max-volume-cm3", type=float, metavar="V")
-    p.add_argument("--max-loss-w", type=float, metavar="P")
-    p.add_argument("--max-cost", type=float, metavar="C")
+    p.add_argument("--max-volume-cm3", type=float, metavar="V", help="only designs of at most V cm3 (boxed)")
+    p.add_argument("--max-loss-w", type=float, metavar="P", help="only designs losing at most P W (the run's loss)")
+    p.add_argument("--max-cost", type=float, metavar="C", help="only designs costing at most C")
     p.add_argument("--by", choices=PICK_RULES, default="knee",
                    help="among the designs within the limits, take the knee (default) or the smallest volume, loss or cost")
     catalog_arg(p)
@@ -412,7 +432,7 @@ def _register_results(sub) -> None:
     p = sub.add_parser("compare", help="overlay the fronts of several runs",
                        description="Overlay the fronts of several runs and tabulate their hypervolumes against a "
                                    "common reference point (1.1 x the worst objective over all fronts).")
-    p.add_argument("runs", nargs="+", metavar="RUN_DIR")
+    p.add_argument("runs", nargs="+", metavar="RUN_DIR", help="two or more run folders")
     p.add_argument("--out", metavar="DIR", help="output folder (default runs/compare)")
     p.set_defaults(func=cmd_compare)
 
@@ -423,4 +443,5 @@ def register(sub) -> None:
     _register_design(sub)
     _register_search(sub)
     _register_results(sub)
+    _register_sheet(sub)
     _register_calibrate(sub)

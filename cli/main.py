@@ -10,6 +10,7 @@ import argparse
 import os
 import sys
 
+from fluxfront import __version__
 from fluxfront.catalog import CatalogError
 from fluxfront.errors import InputError
 
@@ -26,7 +27,8 @@ def build_parser() -> argparse.ArgumentParser:
         prog="fluxfront",
         description="Design the boost inductor of an active PFC front end: search material, core, turns, "
                     "gap, wire and switching frequency together for the volume-loss-cost Pareto front.")
-    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    parser.add_argument("--version", action="version", version=f"fluxfront {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     commands.register(sub)
     return parser
 
@@ -34,6 +36,9 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    if args.command is None:          # plain `fluxfront`: what it can do
+        parser.print_help()
+        return 0
     try:
         return args.func(args)
     except (CatalogError, InputError) as exc:

@@ -19,8 +19,17 @@ from fluxfront.catalog.fitting import predict  # noqa: E402
 from fluxfront.files import write_atomic  # noqa: E402
 from fluxfront.models.magnetics import powder_permeability_fraction  # noqa: E402
 
-AXIS = {"volume_cm3": "boxed volume [cm³]", "total_loss_w": "weighted total loss [W]", "cost": "cost [currency units]",
+AXIS = {"volume_cm3": "boxed volume [cm³]", "total_loss_w": "inductor loss, weighted [W]", "cost": "cost [{currency}]",
         "f_sw_khz": "switching frequency [kHz]"}
+# One colour per material class, the same in every run and figure; classes not listed get the greys.
+CLASS_COLOURS = {
+    "MnZn power ferrite": "#1f77b4", "Fe-based amorphous": "#8c564b", "nanocrystalline": "#9467bd",
+    "Fe-Si-Al powder": "#2ca02c", "Fe-Ni powder": "#ff7f0e", "MoNi powder": "#17becf", "iron powder": "#7f7f7f",
+    "Fe-Si powder": "#bcbd22",
+}
+OTHER_COLOURS = ("#4d4d4d", "#999999", "#c7c7c7", "#6b6b6b")
+KNEE_MARKER = dict(marker="*", s=320, facecolor="none", edgecolor="black", linewidth=1.6)   # no class uses it
+FREQUENCY_TICKS_KHZ = (20, 30, 50, 100, 200, 300, 500, 1000)
 STYLE = {"figure.dpi": 110, "savefig.dpi": 150, "font.size": 10, "axes.grid": True, "grid.alpha": 0.3,
          "axes.spines.top": False, "axes.spines.right": False}
 
@@ -47,8 +56,23 @@ def _classes(front: pd.DataFrame, catalog) -> pd.Series:
 
 
 def _colours(labels) -> dict:
-    cmap = plt.get_cmap("tab10")
-    return {lab: cmap(i % 10) for i, lab in enumerate(sorted(set(labels)))}
+    """Fixed colours by material class (CLASS_COLOURS); a class of the user's own gets a grey."""
+    others = iter(OTHER_COLOURS * 10)
+    return {lab: CLASS_COLOURS.get(lab) or next(others) for lab in sorted(set(labels))}
+
+
+def _khz_axis(ax) -> None:
+    """A logarithmic frequency axis labelled in plain kHz (30, 50, 100, 200, ...)."""
+    ax.set_xscale("log")
+    lo, hi = ax.get_xlim()
+    ticks = [t for t in FREQUENCY_TICKS_KHZ if lo <= t <= hi]
+    if ticks:
+        ax.set_xticks(ticks, [f"{t:g}" for t in ticks])
+    ax.xaxis.set_minor_formatter(matplotlib.ticker.NullFormatter())
+
+
+def axis_label(key: str, currency: str = "currency units") -> str:
+    return AXIS[key].format(currency=currency)
 
 
 def _cost_sizes(cost: pd.Series) -> np.ndarray:
@@ -68,8 +92,8 @@ def front_volume_loss(front: pd.DataFrame, catalog, knee: int | None = None):
             ax.scatter(front.loc[sel, "volume_cm3"], front.loc[sel, "total_loss_w"], s=sizes[sel], color=colours[cls],
                        alpha=0.75, edgecolor="black", linewidth=0.4, label=cls)
         if knee is not None:
-            ax.scatter(front["volume_cm3"].iloc[knee], front["total_loss_w"].iloc[knee], s=260, facecolor="none",
-                       edgecolor="red", linewidth=1.8, label="balanced (knee)")
+            ax.scatter(front["volume_cm3"].iloc[knee], front["total_loss_w"].iloc[knee], label="balanced (knee)",
+                       **KNEE_MARKER)
         ax.set_xlabel(AXIS["volume_cm3"])
         ax.set_ylabel(AXIS["total_loss_w"])
         ax.set_title("Pareto front: size against loss (marker area: cost)")
@@ -79,7 +103,8 @@ def front_volume_loss(front: pd.DataFrame, catalog, knee: int | None = None):
         ax.add_artist(first)
         lo, hi = front["cost"].min(), front["cost"].max()
         handles = [ax.scatter([], [], s=s, color="grey", alpha=0.5) for s in (20, 110, 200)]
-        ax.legend(handles, [f"{v:.1f}" for v in (lo, (lo + hi) / 2, hi)], title="cost", loc="lower left", fontsize=8)
+        ax.legend(handles, [f"{v:.1f}" for v in (lo, (lo + hi) / 2, hi)], title="cost [currency units]",
+                  loc="lower left", fontsize=8)
         return fig
 
 
@@ -94,8 +119,8 @@ def pairwise(front: pd.DataFrame, catalog):
             for cls in sorted(set(classes)):
                 sel = classes == cls
                 ax.scatter(front.loc[sel, x], front.loc[sel, y], s=18, color=colours[cls], label=cls, alpha=0.8)
-            ax.set_xlabel(AXIS[x])
-            ax.set_ylabel(AXIS[y])
+            ax.set_xlabel(axis_label(x))
+            ax.set_ylabel(axis_label(y))
         axes[0].legend(fontsize=7, title="material class")
         fig.suptitle("Pareto front, objectives in pairs")
         fig.tight_layout()
@@ -111,7 +136,7 @@ def frequency_along_front(front: pd.DataFrame, catalog):
         for cls in sorted(set(classes)):
             sel = classes == cls
             ax.scatter(front.loc[sel, "f_sw_khz"], front.loc[sel, "total_loss_w"], s=22, color=colours[cls], label=cls)
-        ax.set_xscale("log")
+        _khz_axis(ax)
         ax.set_xlabel(AXIS["f_sw_khz"])
         ax.set_ylabel(AXIS["total_loss_w"])
         ax.set_title("Switching frequency chosen along the front")
@@ -135,29 +160,40 @@ def progress(history: pd.DataFrame):
 
 
 def flux_map_figure(curves: pd.DataFrame, summary: pd.DataFrame):
-    """Loss-limited ripple amplitude against frequency per material, with the saturation-allowed level."""
+    """Small multiples, one panel per material class: loss-limited ripple amplitude against frequency
+    for each loss density (line styles), the saturation-allowed amplitude (thin line), crossovers (dots)."""
     styles = ["-", "--", ":", "-."]
+    classes = sorted(curves["class"].unique())
+    densities = sorted(curves["loss_density_mw_cm3"].unique())
+    cols = min(3, len(classes))
+    rows = int(np.ceil(len(classes) / cols))
     with plt.rc_context(STYLE):
-        fig, ax = plt.subplots(figsize=(9, 6))
-        colours = _colours(curves["material"])
-        densities = sorted(curves["loss_density_mw_cm3"].unique())
-        for mat, grp in curves.groupby("material", sort=True):
-            for i, pv in enumerate(densities):
-                g = grp[grp["loss_density_mw_cm3"] == pv]
-                ax.plot(g["f_khz"], g["b_loss_mt"], styles[i % 4], color=colours[mat],
-                        label=plain(mat) if i == 0 else None)
-            ax.axhline(grp["b_saturation_mt"].iloc[0], color=colours[mat], linewidth=0.8, alpha=0.5)
-            for _, r in summary[summary["material"] == mat].iterrows():
-                if np.isfinite(r["crossover_khz"]):
-                    ax.plot(r["crossover_khz"], r["b_saturation_mt"], "o", color=colours[mat], markersize=5)
-        ax.set_xscale("log")
-        ax.set_yscale("log")
-        ax.set_xlabel(AXIS["f_sw_khz"])
-        ax.set_ylabel("ripple flux amplitude [mT]")
-        dens = ", ".join(f"{styles[i % 4]} {pv:g} mW/cm³" for i, pv in enumerate(densities))
-        ax.set_title("Ripple flux each material can afford: loss limit (curves: " + dens + ")\n"
-                     "against saturation (thin horizontal lines); dots: crossover", fontsize=9)
-        ax.legend(fontsize=7, ncol=2, loc="lower left")
+        fig, axes = plt.subplots(rows, cols, figsize=(4.2 * cols, 3.4 * rows), squeeze=False, sharey=True)
+        shades = iter(OTHER_COLOURS * 10)
+        for ax, cls in zip(axes.flat, classes):
+            members = curves[curves["class"] == cls]
+            for k, (mat, grp) in enumerate(members.groupby("material", sort=True)):
+                colour = CLASS_COLOURS.get(cls, next(shades)) if k == 0 else next(shades)
+                for i, pv in enumerate(densities):
+                    g = grp[grp["loss_density_mw_cm3"] == pv]
+                    ax.plot(g["f_khz"], g["b_loss_mt"], styles[i % 4], color=colour,
+                            label=plain(mat) if i == 0 else None)
+                ax.axhline(grp["b_saturation_mt"].iloc[0], color=colour, linewidth=0.8, alpha=0.6)
+                for _, r in summary[summary["material"] == mat].iterrows():
+                    if np.isfinite(r["crossover_khz"]):
+                        ax.plot(r["crossover_khz"], r["b_saturation_mt"], "o", color=colour, markersize=5)
+            ax.set_yscale("log")
+            _khz_axis(ax)
+            ax.set_title(plain(cls), fontsize=9)
+            ax.set_xlabel(AXIS["f_sw_khz"], fontsize=8)
+            ax.legend(fontsize=6, loc="lower left")
+        for ax in axes.flat[len(classes):]:
+            ax.set_visible(False)
+        axes[0, 0].set_ylabel("ripple flux amplitude [mT]")
+        dens = ", ".join(f"'{styles[i % 4]}' {pv:g} mW/cm³" for i, pv in enumerate(densities))
+        fig.suptitle(f"Ripple flux each material affords: loss limit ({dens}); thin line: saturation; dot: crossover",
+                     fontsize=9)
+        fig.tight_layout()
         return fig
 
 

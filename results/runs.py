@@ -1,6 +1,7 @@
 """A finished (or stopped) run folder read back for results: plots, picks and comparisons."""
 from __future__ import annotations
 
+import hashlib
 from pathlib import Path
 
 import numpy as np
@@ -82,10 +83,17 @@ def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
     return paths
 
 
+def run_trace(run_dir) -> dict:
+    """What a build sheet from this run names: seed and the spec's hash."""
+    meta, settings = read_settings(RunFolder(Path(run_dir)))
+    spec_hash = hashlib.sha256((Path(run_dir) / "spec.toml").read_bytes()).hexdigest()
+    return {"seed": settings.seed, "spec hash (SHA-256)": spec_hash, "run started": meta.get("start_time", "?")}
+
+
 def write_knee_sheet(run_dir):
     """Build sheet of the front's balanced design; returns the Pick."""
     spec, _, ctx, front, _ = load_run(run_dir)
-    return write_pick(run_dir, ctx, front, front_knee(front, spec))
+    return write_pick(run_dir, ctx, front, front_knee(front, spec), run_trace(run_dir))
 
 
 def compare_runs(run_dirs, out) -> tuple[pd.DataFrame, np.ndarray, list[Path]]:

@@ -16,7 +16,7 @@ from fluxfront.results.render import KEY_FIGURES_ID
 
 SECTIONS = ["Specification", "Core and gap", "Winding", "Inductance and bench measurement", "Tolerances",
             "Over the line cycle", "Losses", "Cost", "Temperature, mass, volume", "Key figures", "Models and sources",
-            "Assumptions", "Safety"]
+            "Assumptions", "Safety", "Traceability"]
 
 
 @pytest.fixture(scope="module")
@@ -144,3 +144,34 @@ def test_compare_two_runs(run_dir, tmp_path, capsys):
     table = pd.read_csv(tmp_path / "cmp" / "compare.csv")
     assert len(table) == 2 and table.hypervolume.iloc[0] == table.hypervolume.iloc[1] > 0
     assert main(["compare", str(run_dir)]) == 2
+
+
+def test_sheet_for_a_typed_in_design(tmp_path, capsys):
+    one = tmp_path / "mine.toml"
+    one.write_text('material = "mnzn_ferrite_300k"\nshape = "E55/28/21"\nstack = 2\nturns = 18\ngap_mm = 2.15\n'
+                   'gaps = 4\nwire = "awg14-g2"\nparallel = 3\nf_sw_khz = 292.5\n')
+    assert main(["sheet", str(demo_spec_path()), str(one), "--out", str(tmp_path / "s")]) == 0
+    page = (tmp_path / "s" / "build_sheet.html").read_text()
+    assert "Traceability" in page and "typed in (mine.toml)" in page and "Tolerances" in page
+    assert "yield" in capsys.readouterr().out
+
+
+def test_version_plain_help_and_every_option_explained(capsys):
+    import argparse
+
+    from fluxfront import __version__
+    from fluxfront.cli.main import build_parser
+
+    with pytest.raises(SystemExit):
+        main(["--version"])
+    assert __version__ in capsys.readouterr().out
+    assert main([]) == 0 and "COMMAND" in capsys.readouterr().out
+
+    def missing(parser, path):
+        for a in parser._actions:
+            if isinstance(a, argparse._SubParsersAction):
+                for name, sp in a.choices.items():
+                    yield from missing(sp, path + [name])
+            elif a.help is None and not isinstance(a, argparse._HelpAction):
+                yield " ".join(path + [a.dest])
+    assert list(missing(build_parser(), [])) == []
