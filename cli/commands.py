@@ -25,10 +25,11 @@ from fluxfront.optimizer.resume import resume
 from fluxfront.optimizer.run import Outcome, Settings, start
 from fluxfront.optimizer.state import CheckpointError
 from fluxfront.results.buildsheet import write_pick, write_typed_sheet
+from fluxfront.results.explorer import write_explorer
 from fluxfront.results.fits import write_calibration, write_loss_fit, write_rolloff_fit
 from fluxfront.results.fluxmap import crossover_lines, write_flux_map
 from fluxfront.results.picking import PICK_RULES, pick_rows
-from fluxfront.results.report import detail, summary_text
+from fluxfront.results.report import SAFETY_NOTE, detail, summary_text
 from fluxfront.results.runs import compare_runs, load_run, run_trace, write_knee_sheet, write_plots
 
 EXIT_NO_FEASIBLE = 3   # a search found no feasible design (the run folder is still written)
@@ -204,6 +205,14 @@ def cmd_plot(args) -> int:
     return 0
 
 
+def cmd_explore(args) -> int:
+    spec, catalog, ctx, front, _ = load_run(args.run_dir, args.catalog)
+    if len(front) == 0:
+        raise InputError(f"{args.run_dir}: the front is empty; there is nothing to explore")
+    print(f"wrote {write_explorer(args.run_dir, front, catalog, SAFETY_NOTE, args.out)} (opens offline in a browser)")
+    return 0
+
+
 def cmd_pick(args) -> int:
     for name in ("max_volume_cm3", "max_loss_w", "max_cost"):
         _positive(name.replace("_", "-"), getattr(args, name), integer=False)
@@ -341,6 +350,18 @@ def _register_design(sub) -> None:
     p.set_defaults(func=cmd_flux_map)
 
 
+def _register_explore(sub) -> None:
+    """The interactive front explorer."""
+    p = sub.add_parser("explore", help="write an interactive page of a run's front (one offline HTML file)",
+                       description="Write RUN_DIR/explore.html: the front in three linked panels, filters (class, "
+                                   "frequency, hot spot, height, cost, loss, robust only) and each design's figures "
+                                   "and build-sheet command on click. Opens offline; nothing is fetched.")
+    p.add_argument("run_dir", metavar="RUN_DIR", help="a run folder written by fluxfront run")
+    p.add_argument("--out", metavar="FILE", help="where to write the page (default RUN_DIR/explore.html)")
+    catalog_arg(p)
+    p.set_defaults(func=cmd_explore)
+
+
 def _register_sheet(sub) -> None:
     """The build sheet of a design typed in by hand."""
     p = sub.add_parser("sheet", help="write the build sheet of a design typed in by hand",
@@ -443,5 +464,6 @@ def register(sub) -> None:
     _register_design(sub)
     _register_search(sub)
     _register_results(sub)
+    _register_explore(sub)
     _register_sheet(sub)
     _register_calibrate(sub)
