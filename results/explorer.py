@@ -58,11 +58,12 @@ function draw() {
   Plotly.react(plot, traces, D.layout, {displaylogo: false, responsive: true});
   document.getElementById('count').textContent = keep.filter(Boolean).length;
 }
+function cell(text) { return '<td>' + text + '</td>'; }
 function show(i) {
-  const r = D.rows[i];
-  document.getElementById('details').innerHTML = '<h3>Front row ' + i + '</h3><table>' +
-    D.shown.map(k => '<tr><td>' + k + '</td><td>' + r[k] + '</td></tr>').join('') + '</table>' +
-    '<p>Build sheet: <code>fluxfront pick ' + D.run + ' --row ' + i + '</code></p>';
+  const design = D.rows[i];
+  const lines = D.shown.map(key => '<tr>' + cell(key) + cell(design[key]) + '</tr>');
+  document.getElementById('details').innerHTML = '<h3>Front row ' + i + '</h3><table>' + lines.join('') +
+    '</table><p>Build sheet: <code>fluxfront pick ' + D.run + ' --row ' + i + '</code></p>';
 }
 function fromAddress() {
   new URLSearchParams(location.hash.slice(1)).forEach((v, k) => {
