@@ -127,42 +127,65 @@ def _fringing_geometry(ctx: Context, d: Designs, b: Build, c: Circuit):
     return out
 
 
-def ac_factors(ctx: Context, d: Designs, b: Build, c: Circuit, lc: LineCycle) -> AcFactors:
-    """Dowell (solid wire) or strand-level litz factor, and the gaps' fringing loss, at three temperatures.
+@dataclass(frozen=True)
+class WindingShape:
+    """What the AC resistance factor of each design's winding depends on besides frequency."""
 
-    The fringing loss of harmonic n is ``rho G Gamma(d/delta_n) F_n^2`` with the peak MMF across one
-    leg's gaps ``F_n = N I_n,pk share / legs`` (models.gap_field).
-    """
-    cat, geo = ctx.catalog, b.geo
-    W = cat.wire_arrays
-    w, f, par = d.wire, d.f_sw, d.parallel.astype(float)
-    n = len(d)
+    litz: np.ndarray
+    strand: np.ndarray         # strand (solid: wire) copper diameter [m]
+    porosity: np.ndarray       # copper width along a layer over its breadth, within (0, 1]
+    layers: np.ndarray         # layers (of wires)
+    strand_layers: np.ndarray  # layers of strands (litz: layers x sqrt(strands))
+
+
+def winding_shape(ctx: Context, d: Designs, b: Build) -> WindingShape:
+    W, geo = ctx.catalog.wire_arrays, b.geo
+    w, par = d.wire, d.parallel.astype(float)
     od = W["outer_diameter"][w]
-    t_nodes = ctx.spec.limits.ambient_c + np.array(TEMPERATURE_NODES_K)
     litz = W["litz"][w]
     d_s, n_s = W["strand_diameter"][w], W["strands"][w]
     # porosity of a layer: copper width along the layer over its breadth
     breadth = np.where(b.ring, np.pi * 2 * np.maximum(geo.window_height - od / 2, od), geo.window_breadth)
     # (held within (0, 1]: a layer cannot hold more copper than its breadth, nor less than a trace)
     eta = np.clip(b.turns_per_layer * par * np.where(litz, np.sqrt(n_s) * d_s, d_s) / breadth, 1e-3, 1.0)
-    strand_layers = np.where(litz, b.layers * np.sqrt(n_s), b.layers)
+    return WindingShape(litz, d_s, eta, b.layers, np.where(litz, b.layers * np.sqrt(n_s), b.layers))
+
+
+def resistance_factor(ctx: Context, ws: WindingShape, frequencies, temperature_c):
+    """R_ac / R_dc of each design's winding at ``frequencies`` (n, H) [Hz] and ``temperature_c`` [C]:
+    Dowell for solid wire, strand-level litz factor for litz.  Returns (factor (n, H), resistivity)."""
+    cu = ctx.catalog.copper
+    rho = winding.copper_resistivity(temperature_c, cu.resistivity_ohm_m_20c, cu.tempco_per_k)
+    delta = winding.skin_depth(frequencies, rho)
+    litz, solid = ws.litz, ~ws.litz
+    fr = np.empty_like(delta)
+    fr[litz] = winding.litz_factor(ws.strand[litz, None], delta[litz], ws.strand_layers[litz, None],
+                                   ws.porosity[litz, None])
+    fr[solid] = winding.dowell_factor(winding.round_wire_dowell_x(ws.strand[solid, None], delta[solid],
+                                                                  ws.porosity[solid, None]), ws.layers[solid, None])
+    return fr, rho, delta
+
+
+def ac_factors(ctx: Context, d: Designs, b: Build, c: Circuit, lc: LineCycle) -> AcFactors:
+    """Dowell (solid wire) or strand-level litz factor, and the gaps' fringing loss, at three temperatures.
+
+    The fringing loss of harmonic n is ``rho G Gamma(d/delta_n) F_n^2`` with the peak MMF across one
+    leg's gaps ``F_n = N I_n,pk share / legs`` (models.gap_field).
+    """
+    n = len(d)
+    t_nodes = ctx.spec.limits.ambient_c + np.array(TEMPERATURE_NODES_K)
+    ws = winding_shape(ctx, d, b)
     geometry_factor = _fringing_geometry(ctx, d, b, c)
-    coils = np.maximum(cat.shape_arrays["gap_legs"][d.shape], 1)
+    coils = np.maximum(ctx.catalog.shape_arrays["gap_legs"][d.shape], 1)
     mmf_sq = (c.turns * c.gap_share / coils)[:, None, None] ** 2 * 2 * lc.harmonics_ms   # peak, per harmonic
     nodes = np.empty((n, len(ctx.ops), 3))
     fringing = np.zeros((n, len(ctx.ops), 3))
-    solid = ~litz
     fringed = np.nonzero(geometry_factor > 0)[0]
     for k, t in enumerate(t_nodes):
-        rho = winding.copper_resistivity(t, cat.copper.resistivity_ohm_m_20c, cat.copper.tempco_per_k)
-        delta = winding.skin_depth(f[:, None] * ctx.harmonics, rho)
-        fr = np.empty_like(delta)
-        fr[litz] = winding.litz_factor(d_s[litz, None], delta[litz], strand_layers[litz, None], eta[litz, None])
-        fr[solid] = winding.dowell_factor(winding.round_wire_dowell_x(d_s[solid, None], delta[solid], eta[solid, None]),
-                                          b.layers[solid, None])
+        fr, rho, delta = resistance_factor(ctx, ws, d.f_sw[:, None] * ctx.harmonics, t)
         nodes[:, :, k] = (fr[:, None, :] * lc.harmonics_ms).sum(axis=-1)
         if fringed.size:
-            gamma = gap_field.round_wire_transverse_factor(d_s[fringed, None] / delta[fringed])
+            gamma = gap_field.round_wire_transverse_factor(ws.strand[fringed, None] / delta[fringed])
             fringing[fringed, :, k] = gap_field.fringing_winding_loss(
                 geometry_factor[fringed, None], mmf_sq[fringed], gamma[:, None, :], rho)
     return AcFactors(t_nodes, nodes, fringing)

@@ -17,6 +17,7 @@ from fluxfront.design.tolerance import YieldEstimate
 from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
 
+from .export import write_simulation_files
 from .render import render_html, render_markdown
 from .sheet_sections import SECTIONS, evaluated, status
 
@@ -58,6 +59,7 @@ def write_sheet(folder: Path, ctx: Context, design: pd.DataFrame, title: str, tr
         write_atomic(folder / f"{fig.name}.png", fig.png)
     write_atomic(folder / "build_sheet.md", md + "\n")
     write_atomic(folder / "design.csv", design.to_csv(index=False))
+    write_simulation_files(folder, ctx, resolve_designs(design, ctx.catalog), sheet.ev)
     g = np.stack([ev.constraints[0] for ev in sheet.corner_evaluations])
     return Pick(folder, bool(np.all(g <= 0)), dict(zip(CONSTRAINTS, g.max(axis=0).tolist())), sheet.yield_estimate)
 

@@ -175,3 +175,31 @@ def test_version_plain_help_and_every_option_explained(capsys):
             elif a.help is None and not isinstance(a, argparse._HelpAction):
                 yield " ".join(path + [a.dest])
     assert list(missing(build_parser(), [])) == []
+
+
+def test_simulation_export_parses_and_matches_the_design(tmp_path, capsys):
+    # a small netlist parser: subcircuit frame, element cards, the flux table; the slope of the flux
+    # table at zero current is the design's inductance and the series resistance its DC resistance
+    one = tmp_path / "mine.toml"
+    one.write_text('material = "fesial_powder_60"\nshape = "T57/26/15"\nstack = 2\nturns = 45\ngap_mm = 0\n'
+                   'wire = "awg16-g2"\nparallel = 1\nf_sw_khz = 65\n')
+    assert main(["sheet", str(demo_spec_path()), str(one), "--out", str(tmp_path / "s")]) == 0
+    cards = [ln for ln in (tmp_path / "s" / "inductor.cir").read_text().splitlines() if ln and not ln.startswith("*")]
+    assert cards[0].split()[:2] == [".subckt", "FLUXFRONT_L"] and cards[-1] == ".ends FLUXFRONT_L"
+    elements = {c.split()[0]: c for c in cards[1:-1]}
+    assert set(elements) == {"Rs", "Vsense", "Bpsi", "Rcore"}
+    assert all(len(elements[k].split()) == 4 for k in ("Rs", "Vsense", "Rcore"))   # name, two nodes, value
+    table = [float(x) for x in elements["Bpsi"].split("pwl(i(Vsense),")[1].rstrip("))").split(",")]
+    current, flux = np.array(table[0::2]), np.array(table[1::2])
+    assert np.all(np.diff(current) > 0) and np.all(np.diff(flux) > 0)          # monotonic, odd
+    np.testing.assert_allclose(flux, -flux[::-1], atol=1e-12)
+    lt = pd.read_csv(tmp_path / "s" / "inductance_vs_current.csv")
+    mid = len(current) // 2
+    slope = (flux[mid + 1] - flux[mid]) / (current[mid + 1] - current[mid])
+    assert slope * 1e6 == pytest.approx((lt.inductance_uh[0] + lt.inductance_uh[1]) / 2, rel=1e-5)
+    assert main(["evaluate", str(demo_spec_path()), str(one)]) == 0
+    l0 = float(capsys.readouterr().out.split("inductance ")[1].split(" uH")[0])
+    assert lt.inductance_uh[0] == pytest.approx(l0, rel=1e-3)                     # summary rounds to 0.1 uH
+    rt = pd.read_csv(tmp_path / "s" / "ac_resistance_vs_frequency.csv")
+    assert float(elements["Rs"].split()[3]) == pytest.approx(rt.resistance_mohm[0] * 1e-3, rel=1e-5)
+    assert np.all(np.diff(rt.resistance_mohm) >= 0)                              # AC resistance rises with f
