@@ -171,6 +171,7 @@ class Litz(_Entry):
 
 
 class Costs(_Entry):
+    currency: Annotated[str, Field(min_length=1, max_length=20)] = "currency units"
     copper_price_per_kg: _between(0.0, 1000.0, "per kg")
     litz_price_factor: _between(1.0, 20.0)
     labour_per_turn: _between(0.0, 100.0, "per turn")

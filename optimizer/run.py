@@ -247,7 +247,7 @@ def search(ctx: TolerantContext, space: DesignSpace, folder: RunFolder, settings
     folder.write_json("run.json", meta)
     log.info("stopped: %s", stop)
     return Outcome(folder.path, stop, len(front), state.evaluations + state.sweep_evaluations, state.generation, hv,
-                   summary_text(front, state, ctx.spec), interrupted)
+                   summary_text(front, state, ctx.spec, ctx.catalog.costs.currency), interrupted)
 
 
 def _new_state(ctx: TolerantContext, space: DesignSpace, settings: Settings, evaluator) -> State:

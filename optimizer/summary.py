@@ -45,7 +45,7 @@ def no_feasible_text(state: State) -> str:
     return "\n".join(lines)
 
 
-def summary_text(front: pd.DataFrame, state: State, spec: Spec) -> str:
+def summary_text(front: pd.DataFrame, state: State, spec: Spec, currency: str = "currency units") -> str:
     """The end-of-run summary: the representative designs, each once, with the figures that matter."""
     if len(front) == 0:
         return no_feasible_text(state)
@@ -64,7 +64,7 @@ def summary_text(front: pd.DataFrame, state: State, spec: Spec) -> str:
         lines.append(f"  {' / '.join(labels)} (row {i}): {r.material} {r.stack}x{r['shape']} N={r.turns} {gap} "
                      f"{r.parallel}x{r.wire} {r.f_sw_khz:g} kHz")
         margin = f", worst-corner margin {-r.worst_margin:.0%} ({r.worst_limit})" if "worst_margin" in r else ""
-        lines.append(f"      {r.volume_cm3:.1f} cm3, inductor loss {r.total_loss_w:.2f} W, cost {r.cost:.2f}, "
+        lines.append(f"      {r.volume_cm3:.1f} cm3, inductor loss {r.total_loss_w:.2f} W, cost {r.cost:.2f} {currency}, "
                      f"{r.inductance_uh:.0f} uH, B peak {r.b_peak_t:.3f} of {r.b_sat_t:.3f} T, "
                      f"hot spot {r.temperature_c:.0f} C{margin}")
     return "\n".join(lines)

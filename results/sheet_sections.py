@@ -19,7 +19,6 @@ from fluxfront.models import magnetics
 
 from . import plots
 from .render import figure_png
-from .report import SAFETY_NOTE
 
 
 def _fmt(x, digits=4):
@@ -82,30 +81,74 @@ def evaluated(ctx: Context, design_row: pd.DataFrame) -> Sheet:
                   monte_carlo_yield(ctx, designs))
 
 
-def _specification(s: Sheet) -> list:
-    """The spec and the results per operating point."""
-    ctx, ev = s.ctx, s.ev
-    spec = s.ctx.spec
-    sections = []
-    sections.append(("Specification", [
-        ("p", f"Boost PFC inductor for {spec.converter.power_w:g} W output, {spec.converter.bus_v:g} V bus, "
-              f"{spec.converter.line_hz:g} Hz mains, efficiency estimate {spec.converter.efficiency:g}; air at "
-              f"{spec.limits.ambient_c:g} C, hot spot at most {spec.limits.hot_spot_max_c:g} C, "
-              f"thermal model '{spec.thermal.model}'."),
-        ("table", ["operating point", "input [Vrms]", "load", "weight", "loss [W]", "hot spot [C]", "peak current [A]",
-                   "peak flux [T]"],
-         [[op.name, _fmt(op.v_rms), _fmt(op.power_w / spec.converter.power_w), _fmt(op.weight),
-           _fmt(ev.per_op["total_loss_w"][0, j]), _fmt(ev.per_op["temperature_c"][0, j], 3),
-           _fmt(ev.per_op["i_peak_a"][0, j]), _fmt(ev.per_op["b_peak_t"][0, j])] for j, op in enumerate(ctx.ops)]),
-    ]))
-
-    return sections
+def _rows(pairs) -> list[list[str]]:
+    return [[k, v] for k, v in pairs]
 
 
-def _core_and_gap(s: Sheet) -> list:
-    """Core set, material and how to make the gap."""
-    f, d, mat, shape, fam, geo, distributed = s.f, s.d, s.mat, s.shape, s.fam, s.geo, s.distributed
-    sections = []
+def _al_band(s: Sheet) -> tuple[float, float, float]:
+    """AL [nH/turn^2] nominal and its range over the tolerance corners (how a gapped set is ordered)."""
+    n2 = float(s.d["turns"]) ** 2
+    values = [ev.figures["inductance_uh"][0] * 1e3 / n2 for ev in s.corner_evaluations]
+    return values[0], min(values), max(values)
+
+
+def _order(s: Sheet) -> list:
+    """1. What to order: the core set and the properties the part must meet, the wire, the bobbin."""
+    f, d, mat, shape, fam = s.f, s.d, s.mat, s.shape, s.fam
+    wire = s.ctx.catalog.wires[d["wire"]]
+    al, al_lo, al_hi = _al_band(s)
+    band = next(b for b in mat.steinmetz if b.f_min_hz <= float(d["f_sw_khz"]) * 1e3 <= b.f_max_hz) \
+        if any(b.f_min_hz <= float(d["f_sw_khz"]) * 1e3 <= b.f_max_hz for b in mat.steinmetz) else mat.steinmetz[-1]
+    amp = f["b_ripple_amplitude_t"]
+    pv = band.k * (float(d["f_sw_khz"]) * 1e3) ** band.alpha * amp**band.beta
+    stack = int(d["stack"])
+    if fam.winding_legs == 2:
+        former = "two coil formers, one per leg (coils in series)"
+    elif shape.family == "T":
+        former = "none: wind on the coated ring (check the coating's voltage rating)"
+    else:
+        former = f"a bobbin for the {shape.family} family" + (
+            f"; {stack} stacked cores need a custom bobbin for the longer leg" if stack > 1 else "")
+    gap_order = ("distributed in the material: order the powder core itself" if s.distributed else
+                 f"order the set gapped to AL = {al:.0f} nH/turn² (tolerance corners {al_lo:.0f}-{al_hi:.0f}), "
+                 "or ungapped and gap it yourself (section 2)")
+    return [("1. What to order", [
+        ("table", ["item", "value"], _rows([
+            ("core set", f"{stack} x {d['shape']} ({shape.family} family), {mat.class_}"),
+            ("outer size of the finished part L x W x H",
+             f"{f['length_mm']:.0f} x {f['width_mm']:.0f} x {f['height_mm']:.0f} mm (standing on its largest face)"),
+            ("gap / AL", gap_order),
+            ("material: saturation at the core's worst temperature", f"at least {f['b_sat_t']:.2f} T "
+                                                                     f"({f['core_temperature_c']:.0f} C)"),
+            ("material: initial permeability", f"about {mat.mu_initial:g}"),
+            ("material: loss density at this design's ripple",
+             f"at most about {pv / 1e3:.0f} kW/m³ at {float(d['f_sw_khz']):g} kHz, {amp * 1e3:.0f} mT peak, "
+             f"{mat.loss_temp_ref_c:g} C"),
+            ("wire", f"{int(d['parallel'])} x {d['wire']} in hand ("
+                     + (f"litz of {wire.strands} strands" if wire.kind == "litz" else "round magnet wire")
+                     + f", {wire.outer_diameter * 1e3:.2f} mm over insulation)"),
+            ("coil former", former),
+        ])),
+        ("p", f"The catalog's {mat.class_} entry is representative of its class ({mat.provenance}): ask for the "
+              "properties above, or fit your supplier's data (fluxfront catalog fit-loss) and search again."),
+    ])]
+
+
+def _winding_plan(s: Sheet) -> list[list[str]]:
+    """Turns in each layer, layer by layer, per coil."""
+    per_coil = int(np.ceil(float(s.d["turns"]) / s.fam.winding_legs))
+    tpl = max(int(s.f["turns_per_layer"]), 1)
+    rows, left, k = [], per_coil, 1
+    while left > 0 and k <= 40:
+        rows.append([str(k), str(min(tpl, left))])
+        left -= tpl
+        k += 1
+    return rows
+
+
+def _build(s: Sheet) -> list:
+    """2. How to build it: the gap, the winding plan, the wire per strand."""
+    f, d, fam, distributed = s.f, s.d, s.fam, s.distributed
     gap, gaps = float(d["gap_mm"]), int(d.get("gaps", 1))
     each = gap / max(fam.gap_legs, 1) / gaps
     keepout = s.ctx.spec.construction.gap_keepout_mm
@@ -127,206 +170,142 @@ def _core_and_gap(s: Sheet) -> list:
                     "legs): split gaps keep the fringing field, and the eddy loss it drives in the winding, small.")
     if not distributed and keepout > 0:
         gap_text += f" Keep the first layer {keepout:g} mm clear of the gapped leg beyond the bobbin wall."
-    sections.append(("Core and gap", [
-        ("table", ["item", "value"], [
-            ["shape and size", f"{d['shape']} ({shape.family} family)"],
-            ["cores stacked", str(int(d["stack"]))],
-            ["material class", f"{mat.class_} ({mat.id}: {mat.description})"],
-            ["effective length le", f"{_fmt(geo.le[0] * 1e3)} mm"],
-            ["effective area Ae (magnetic)", f"{_fmt(geo.ae[0] * mat.stacking_factor * 1e6)} mm²"],
-            ["effective volume Ve", f"{_fmt(geo.ve[0] * 1e6)} cm³"],
-            ["core mass", f"{_fmt(f['core_mass_g'])} g"],
-        ]),
+    per_strand = f["wire_length_m"] / float(d["parallel"])
+    return [("2. How to build it", [
         ("p", gap_text),
-    ]))
-
-    return sections
-
-
-def _winding(s: Sheet) -> list:
-    """Wire, turns and layers."""
-    f, d, fam = s.f, s.d, s.fam
-    cat = s.ctx.catalog
-    sections = []
-    wire = cat.wires[d["wire"]]
-    sections.append(("Winding", [
-        ("table", ["item", "value"], [
-            ["wire", f"{d['wire']} ({'litz, ' + str(wire.strands) + ' strands' if wire.kind == 'litz' else 'round magnet wire'}, "
-                     f"{_fmt(wire.outer_diameter * 1e3)} mm over insulation)"],
-            ["wires in parallel", str(int(d["parallel"]))],
-            ["turns", str(int(d["turns"]))],
-            ["coils", "one on each leg, in series, half the turns each" if fam.winding_legs == 2 else "one"],
-            ["turns per layer", _fmt(f["turns_per_layer"])],
-            ["layers", _fmt(f["layers"])],
-            ["wire length (all parallel wires, without leads)", f"{_fmt(f['wire_length_m'])} m"],
-            ["copper fill of the window", _fmt(f["fill"], 3)],
-            ["DC resistance at 20 C", f"{_fmt(f['r_dc_mohm_20c'])} mΩ"],
-            ["copper mass", f"{_fmt(f['copper_mass_g'])} g"],
-        ]),
-        ("p", "Add lead length for the terminations; wind the layers evenly across the full breadth (the AC-loss "
-              "model assumes full layers) and insulate layer to layer as the safety standard requires."),
-    ]))
-
-    return sections
-
-
-def _inductance(s: Sheet) -> list:
-    """Inductance against current and what to expect on the bench."""
-    f, d, mat, geo, distributed = s.f, s.d, s.mat, s.geo, s.distributed
-    sections = []
-    n, le = float(d["turns"]), geo.le[0]
-    i_axis = np.linspace(0, 1.3 * f["i_peak_a"], 120)
-    frac = magnetics.powder_permeability_fraction(n * i_axis / le, mat.rolloff_a or 1.0, mat.rolloff_b or 0.0,
-                                                  mat.rolloff_c or 1.0)
-    fig_l = figure_png(plots.inductance_curve(i_axis, f["inductance_uh"] * frac, f["i_peak_a"]), "inductance_curve",
-                    "Incremental inductance against DC current" + (
-                        "" if distributed else " (gapped core: flat until the core nears saturation, which this "
-                                               "linear model does not show; the limit is the peak-flux check)"))
-    lcr = ("On an LCR meter at small signal (for example 10 kHz, 0.1-1 V, no DC bias) expect about "
-           f"{_fmt(f['inductance_uh'], 3)} µH")
-    lcr += (". Powder cores are specified to about ±8 % in permeability; the drop under bias needs a DC-bias "
-            f"supply: at the peak current of {_fmt(f['i_peak_a'], 3)} A expect about "
-            f"{_fmt(f['inductance_at_peak_uh'], 3)} µH." if distributed else
-            "; the fringing factor of the gap is included "
-            f"({_fmt(f['fringing_factor'], 3)}). A reading 10-20 % off usually means the gap is off: adjust it "
-            "rather than the turns.")
-    sections.append(("Inductance and bench measurement", [
-        ("table", ["quantity", "value"], [
-            ["inductance at zero bias", f"{_fmt(f['inductance_uh'])} µH"],
-            ["inductance at peak current", f"{_fmt(f['inductance_at_peak_uh'])} µH"],
-            ["peak current (worst point)", f"{_fmt(f['i_peak_a'])} A"],
-            ["RMS current (worst point)", f"{_fmt(f['i_rms_a'])} A"],
-            ["largest ripple, peak to peak", f"{_fmt(f['ripple_pp_max_a'])} A"],
-        ]),
-        ("p", lcr),
-        ("img", fig_l),
-    ]))
-
-    return sections
-
-
-def _tolerances(s: Sheet) -> list:
-    """Every tolerance corner of the design, and its Monte Carlo yield."""
-    tol = s.ctx.spec.tolerance
-    y = s.yield_estimate
-    failing = ", ".join(f"{k.replace('_', ' ')} {v:.1%}" for k, v in sorted(s.yield_estimate.failing.items(),
-                                                                        key=lambda kv: -kv[1]) if v > 0)
-    return [("Tolerances", [
-        ("p", f"Each corner re-evaluates the design with the gap off by max({tol.gap_mm:g} mm, {tol.gap_percent:g} %) "
-              f"per ground gap, the permeability by ±{tol.permeability_percent:g} %, the Steinmetz k up to "
-              f"+{tol.steinmetz_k_percent:g} %, the ambient up to +{tol.ambient_k:g} K and the line down to "
-              f"{tol.line_sag:g} of each operating point (spec [tolerance]); the corners are where each limit is "
-              "at its worst (design/tolerance.py)."),
-        ("table", ["corner", "inductance [µH]", "peak flux [T]", "largest ripple [A]", "hot spot [C]", "meets every limit"],
-         _corner_rows(s.corner_evaluations, s.corners)),
-        ("p", f"Yield: {y.share:.1%} of {y.samples} parts drawn from {tol.distribution} tolerance distributions (seed "
-              f"{y.seed}) meet every limit" + (f"; failing: {failing}." if failing else ".")),
+        ("table", ["layer (each coil)", "turns"], _winding_plan(s)),
+        ("table", ["item", "value"], _rows([
+            ("turns", f"{int(d['turns'])}" + (", half on each leg, coils in series" if fam.winding_legs == 2 else "")),
+            ("wire length per wire in hand", f"{per_strand:.2f} m plus leads ({int(d['parallel'])} wire(s) in hand)"),
+            ("copper fill of the window", f"{f['fill']:.2f}"),
+        ])),
+        ("p", "Wind each layer evenly across the full breadth (the AC-loss model assumes full layers) and insulate "
+              "layer to layer and winding to core as the safety standard of the product requires."),
     ])]
 
 
-def _line_cycle(s: Sheet) -> list:
-    """Line-cycle figures per operating point."""
-    ctx, ev = s.ctx, s.ev
-    spec = s.ctx.spec
-    sections = []
+def _check(s: Sheet) -> list:
+    """3. How to check it on the bench: inductance with a pass band, at bias, resistance, the current limit."""
+    f, d, mat, geo = s.f, s.d, s.mat, s.geo
+    band = [ev.figures["inductance_uh"][0] for ev in s.corner_evaluations]
+    n, le = float(d["turns"]), geo.le[0]
+    i_axis = np.linspace(0, max(f["current_limit_a"], f["i_peak_a"]), 120)
+    frac = magnetics.powder_permeability_fraction(n * i_axis / le, mat.rolloff_a or 1.0, mat.rolloff_b or 0.0,
+                                                  mat.rolloff_c or 1.0)
+    fig_l = figure_png(plots.inductance_curve(i_axis, f["inductance_uh"] * frac, f["i_peak_a"]), "inductance_curve",
+                       "Incremental inductance against DC current" + (
+                           "" if s.distributed else " (gapped core: flat until the core nears saturation, which "
+                                                    "this model does not show; the limit is the peak-flux check)"))
+    hot = int(np.argmax(s.ev.per_op["temperature_c"][0]))
+    loss = s.ev.per_op["total_loss_w"][0, hot]
+    rise = s.ev.per_op["surface_temperature_c"][0, hot] - s.ctx.spec.limits.ambient_c
+    return [("3. How to check it on the bench", [
+        ("table", ["check", "expect"], _rows([
+            ("small-signal inductance (LCR meter, e.g. 10 kHz, 0.1-1 V, no bias)",
+             f"{f['inductance_uh']:.0f} µH; pass band {min(band):.0f}-{max(band):.0f} µH (tolerance corners)"),
+            (f"inductance at the peak current {f['i_peak_a']:.1f} A (DC-bias supply)", f"{f['inductance_at_peak_uh']:.0f} µH"),
+            ("DC resistance at 20 C", f"{f['r_dc_mohm_20c']:.1f} mΩ"),
+            (f"current-limit pulse {f['current_limit_a']:.1f} A (short, the part stays cold)",
+             f"{f['b_at_current_limit_t']:.2f} T at the narrowest section against {f['b_sat_t']:.2f} T saturation"
+             + (": the current rises linearly through the pulse, no sudden steepening"
+                if f["b_at_current_limit_t"] < f["b_sat_t"] else ": ABOVE saturation, expect the current to run away")),
+            (f"heat run: {loss:.1f} W dissipated in the part (the worst point's loss)",
+             f"surface {rise:.0f} K above the air, hot spot {s.ev.per_op['temperature_c'][0, hot]:.0f} C "
+             f"at {s.ctx.spec.limits.ambient_c:g} C air"),
+        ])),
+        ("p", "A reading 10-20 % off the small-signal value usually means the gap is off: adjust the gap rather "
+              "than the turns. Measured values feed fluxfront calibrate for the next search."),
+        ("img", fig_l),
+    ])]
+
+
+def _why(s: Sheet) -> list:
+    """4. Why this design: operating points, margins at the worst corners, yield, losses and cost."""
+    ctx, ev, f, spec = s.ctx, s.ev, s.f, s.ctx.spec
+    g = np.stack([e.constraints[0] for e in s.corner_evaluations])
+    margins = [[n.replace("_", " "), f"{-g[0, i]:+.0%}", f"{-g[:, i].max():+.0%}", s.corners[int(g[:, i].argmax())].name]
+               for i, n in enumerate(CONSTRAINTS)]
+    tol, y = spec.tolerance, s.yield_estimate
+    failing = ", ".join(f"{k.replace('_', ' ')} {v:.1%}" for k, v in sorted(y.failing.items(), key=lambda kv: -kv[1])
+                        if v > 0)
     figs = []
     for j, op in enumerate(ctx.ops):
         samples = {k: v[0] for k, v in ev.samples[j].items()}
         limit = spec.limits.saturation_margin * ev.per_op["b_sat_t"][0, j]
         figs.append(("img", figure_png(plots.line_cycle(samples, op.name, limit), f"line_cycle_{j + 1}",
-                                    f"Over the half line cycle at '{op.name}'")))
-    sections.append(("Over the line cycle", figs))
-
-    return sections
-
-
-def _results(s: Sheet) -> list:
-    """Losses, cost, temperature, mass and volume."""
-    f = s.f
-    sections = []
-    sections.append(("Losses", [
-        ("p", "Weighted over the operating points (the loss objective); per point in the specification table."),
-        ("table", ["part", "loss [W]"], [
-            ["core, switching-frequency ripple (DC bias included)", _fmt(f["core_loss_w"] - f["core_line_loss_w"])],
-            ["core, line-frequency loop", _fmt(f["core_line_loss_w"])],
-            ["core, gap faces of a cut ribbon core", _fmt(f["core_gap_loss_w"])],
-            ["winding, DC (line-frequency current)", _fmt(f["winding_dc_loss_w"])],
-            ["winding, AC (ripple harmonics, one-dimensional field)", _fmt(f["winding_ac_loss_w"])],
-            ["winding, eddy loss in the gaps' fringing field", _fmt(f["winding_fringing_loss_w"])],
-            ["total, the inductor's own", _fmt(f["total_loss_w"])],
-        ]),
-        ("p", f"Semiconductor switching loss (not in the inductor, from the spec's fit if given): "
-              f"{_fmt(f['switching_loss_w'])} W."),
-    ]))
-    sections.append(("Cost", [
-        ("table", ["part", "cost"], [["core", _fmt(f["cost_core"])], ["core work (gaps, cutting)",
-                                                                       _fmt(f["cost_core_work"])],
-                                     ["copper", _fmt(f["cost_copper"])], ["winding labour", _fmt(f["cost_labour"])],
-                                     ["parts and assembly", _fmt(f["cost_parts"])], ["total", _fmt(f["cost"])]]),
-        ("p", "Representative prices from the catalog's costs.toml and materials.toml, not quotes."),
-    ]))
-    sections.append(("Temperature, mass, volume", [
-        ("table", ["quantity", "value"], [
-            ["hot spot, worst point", f"{_fmt(f['temperature_c'], 3)} C"],
-            ["winding hot spot, worst point", f"{_fmt(f['winding_temperature_c'], 3)} C"],
-            ["core hot spot, worst point", f"{_fmt(f['core_temperature_c'], 3)} C"],
-            ["surface, worst point", f"{_fmt(f['surface_temperature_c'], 3)} C"],
-            ["thermal runaway", _fmt(bool(f["thermal_runaway"]))],
-            ["mass (core + copper)", f"{_fmt(f['mass_g'])} g"],
-            ["boxed volume with winding", f"{_fmt(f['volume_cm3'])} cm³"],
-            ["outer surface", f"{_fmt(f['surface_cm2'])} cm²"],
-        ]),
-    ]))
-    return sections
+                                       f"Over the half line cycle at '{op.name}'")))
+    return [("4. Why this design", [
+        ("p", f"Volume {f['volume_cm3']:.0f} cm³, inductor loss {f['total_loss_w']:.2f} W (weighted over the "
+              f"operating points), cost {f['cost']:.2f}. Spec: {spec.converter.power_w:g} W, {spec.converter.bus_v:g} V "
+              f"bus, {spec.converter.line_hz:g} Hz, air at {spec.limits.ambient_c:g} C."),
+        ("table", ["operating point", "input [Vrms]", "load", "weight", "inductor loss [W]", "hot spot [C]",
+                   "peak current [A]", "peak flux [T]"],
+         [[op.name, _fmt(op.v_rms), _fmt(op.power_w / spec.converter.power_w), _fmt(op.weight),
+           _fmt(ev.per_op["total_loss_w"][0, j], 3), _fmt(ev.per_op["temperature_c"][0, j], 3),
+           _fmt(ev.per_op["i_peak_a"][0, j], 3), _fmt(ev.per_op["b_peak_t"][0, j], 3)] for j, op in enumerate(ctx.ops)]),
+        ("table", ["limit", "margin at nominal", "margin at its worst corner", "worst corner"], margins),
+        ("table", ["corner", "inductance [µH]", "peak flux [T]", "largest ripple [A]", "hot spot [C]", "meets every limit"],
+         _corner_rows(s.corner_evaluations, s.corners)),
+        ("p", f"Corners: gap off by max({tol.gap_mm:g} mm, {tol.gap_percent:g} %) per ground gap, permeability "
+              f"±{tol.permeability_percent:g} %, Steinmetz k up to +{tol.steinmetz_k_percent:g} %, ambient up to "
+              f"+{tol.ambient_k:g} K, the line down to {tol.line_sag:g} (spec [tolerance]). Yield: {y.share:.1%} of "
+              f"{y.samples} parts ({tol.distribution} draws, seed {y.seed}) meet every limit"
+              + (f"; failing: {failing}." if failing else ".")),
+        ("table", ["loss part (weighted)", "W"], [
+            ["core, switching ripple (DC bias included)", _fmt(f["core_loss_w"] - f["core_line_loss_w"], 3)],
+            ["core, line-frequency loop", _fmt(f["core_line_loss_w"], 3)],
+            ["core, gap faces of a cut ribbon core", _fmt(f["core_gap_loss_w"], 3)],
+            ["winding, DC", _fmt(f["winding_dc_loss_w"], 3)],
+            ["winding, AC (ripple harmonics)", _fmt(f["winding_ac_loss_w"], 3)],
+            ["winding, eddy loss in the gaps' fringing field", _fmt(f["winding_fringing_loss_w"], 3)],
+            ["total, the inductor's own", _fmt(f["total_loss_w"], 3)],
+            ["(semiconductor switching, not the inductor's)", _fmt(f["switching_loss_w"], 3)]]),
+        ("table", ["cost part", "cost"], [["core", _fmt(f["cost_core"], 3)], ["core work (gaps, cutting)",
+                                          _fmt(f["cost_core_work"], 3)], ["copper", _fmt(f["cost_copper"], 3)],
+                                          ["winding labour", _fmt(f["cost_labour"], 3)],
+                                          ["parts and assembly", _fmt(f["cost_parts"], 3)], ["total", _fmt(f["cost"], 3)]]),
+        ("grid", figs),
+    ])]
 
 
-def _about(s: Sheet) -> list:
-    """Key figures, models, assumptions and the cautions."""
-    f = s.f
-    spec = s.ctx.spec
-    sections = []
-    sections.append(("Key figures", [("keytable", [[k, s.table[k]] for k in s.table.index])]))
-    sections.append(("Models and sources", [("ul", [
+def _models(s: Sheet) -> list:
+    """5. Models, assumptions and the cautions."""
+    f, spec = s.f, s.ctx.spec
+    return [("5. Models, assumptions and cautions", [("ul", [
         "Line-cycle waveforms of an ideal CCM boost PFC: Fundamentals of Power Electronics, 3rd ed., Springer 2020.",
         "Effective core parameters: IEC 60205; shape sizes after IEC 62317 naming.",
-        f"Inductance: reluctance model; gap fringing '{spec.model.fringing}': Transformer and Inductor Design Handbook, 4th ed.",
-        "Core loss: iGSE per switching period (IEEE COMPEL 2002), Steinmetz parameters of the catalog; DC-bias factor "
-        "1 + k (B_dc/B_sat)^2 by material class (trend of IEEE Trans. Power Electronics 27(2), 2012); line-frequency "
-        "loop as a separate Steinmetz term; loss-temperature factor of the material; cut ribbon cores: a cut factor "
-        "and the handbook gap loss K_i E l_g f B^2 (Transformer and Inductor Design Handbook).",
-        "Winding loss: Dowell's factor over the ripple harmonics (Proc. IEE 113(8), 1966); litz at strand level with the "
-        "exact round-wire skin effect (IEEE Trans. Power Electronics 9(1), 1994); eddy loss in the gaps' fringing "
-        "field from the two-dimensional gap field and the exact round-conductor transverse-field loss (IEEE Trans. "
-        "Magnetics 43(8), 2007); copper after IEC 60028; AWG after ASTM B258.",
-        f"Temperature: '{spec.thermal.model}' model, mounting '{spec.thermal.mounting}' (natural: Churchill-Chu on the "
-        "vertical sides, Int. J. Heat Mass Transfer 18, 1975, upper-surface correlation on top, plus radiation); "
-        "winding and core hot spots from a two-node conduction network; losses re-evaluated at temperature until "
-        "the heat balance converges.",
-    ])]))
-    sections.append(("Assumptions", [("ul", [
-        "Catalog values are representative of the material class, not the data of the part you will buy: check the "
-        "data sheet and re-evaluate with its numbers.",
+        f"Inductance: reluctance model; gap fringing '{spec.model.fringing}': Transformer and Inductor Design Handbook, "
+        "4th ed.",
+        "Core loss: iGSE per switching period (IEEE COMPEL 2002) with the catalog's Steinmetz parameters; DC-bias "
+        "factor 1 + k (B_dc/B_sat)^2 by material class (trend of IEEE Trans. Power Electronics 27(2), 2012); "
+        "line-frequency loop as a separate term; cut ribbon cores: a cut factor and the handbook gap loss.",
+        "Winding loss: Dowell's factor over the ripple harmonics (Proc. IEE 113(8), 1966); litz at strand level "
+        "(IEEE Trans. Power Electronics 9(1), 1994); eddy loss in the gaps' fringing field (two-dimensional gap "
+        "field, IEEE Trans. Magnetics 43(8), 2007); copper after IEC 60028; AWG after ASTM B258.",
+        f"Temperature: '{spec.thermal.model}' model, mounting '{spec.thermal.mounting}' (Churchill-Chu on the sides, "
+        "Int. J. Heat Mass Transfer 18, 1975; upper-surface correlation on top; radiation); hot spots from a "
+        "two-node winding-core network.",
+    ])]), ("Assumptions", [("ul", [
+        "Catalog values are representative of the material class, not the data of the part you will buy.",
         "Continuous conduction is assumed; near the zero crossings the converter may run discontinuous "
         f"({_fmt(f['dcm_fraction'], 2)} of the cycle here).",
-        "The DC-bias factor is a class trend from memory, not a fit to this material's premagnetization data.",
-        "The fringing model is two-dimensional with ideal core faces; it is excess over an evenly spread gap and "
-        "ignores the window's own boundaries (within a few gap lengths of the gap it is the dominant term).",
+        "The DC-bias factor is a class trend from memory, not a fit to this material's measurements.",
+        "The fringing model is two-dimensional with ideal core faces, as excess over an evenly spread gap.",
         ("Hot spots from a two-node winding-core network with conductivities from memory."
          if spec.thermal.internal_rise_k is None else
          f"Hot spot = surface temperature + {spec.thermal.internal_rise_k:g} K (fixed in the spec)."),
         "Geometry from principal dimensions (no chamfers or rounded edges).",
-    ])]))
-    sections.append(("Safety", [("p", SAFETY_NOTE), ("ul", [
+    ])]), ("Safety", [("ul", [
         "The PFC stage works at mains potential and its bus capacitor holds around 400 V after switch-off: "
         "discharge and measure before touching.",
         "The inductor and its neighbours run hot: mind hot surfaces during and after tests.",
         "Insulation system, creepage and clearance between winding, core and chassis follow the applicable safety "
         "standard of the product; defer to local codes and licensed practice.",
-    ])]))
-    return sections
+    ])]), ("Key figures", [("keytable", [[k, s.table[k]] for k in s.table.index if not str(k).startswith(("g_",
+                                                                                                      "nominal_g_"))])])]
 
 
-SECTIONS = (_specification, _core_and_gap, _winding, _inductance, _tolerances, _line_cycle, _results, _about)
+SECTIONS = (_order, _build, _check, _why, _models)
 
 
 def status(s: Sheet) -> list:
