@@ -188,6 +188,9 @@ def cmd_demo(args) -> int:
         for path in write_plots(outcome.folder):
             print(f"plot: {path}")
         pick = write_knee_sheet(outcome.folder)
+        spec_d, catalog_d, _, front_d, _ = load_run(outcome.folder)
+        page = write_explorer(outcome.folder, front_d, catalog_d, SAFETY_NOTE)
+        print(f"explore the front in a browser: {page}")
         print(f"build sheet of the balanced design: {pick.folder / 'build_sheet.html'} (and build_sheet.md)")
         print(_pick_line(pick))
         if not pick.robust:

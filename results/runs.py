@@ -9,10 +9,11 @@ import pandas as pd
 
 from fluxfront.catalog import Catalog
 from fluxfront.design.designs import DESIGN_COLUMNS
-from fluxfront.design.evaluator import INDUCTOR_OBJECTIVES, Context, objective_columns, prepare
+from fluxfront.design.evaluator import CONSTRAINTS, INDUCTOR_OBJECTIVES, Context, objective_columns, prepare
 from fluxfront.design.spec import Spec, load_spec
 from fluxfront.errors import InputError
 from fluxfront.files import write_atomic
+from fluxfront.optimizer import state as checkpoint
 from fluxfront.optimizer.front import hypervolume, knee_index
 from fluxfront.optimizer.resume import check_override, read_settings, snapshot_catalog
 from fluxfront.optimizer.runfolder import RunFolder
@@ -80,6 +81,9 @@ def write_plots(run_dir, extra_catalogs=()) -> list[Path]:
         paths += plots.save(plots.frequency_along_front(front, catalog), out, "front_frequency")
     if history is not None and len(history):
         paths += plots.save(plots.progress(history), out, "progress")
+    if (Path(run_dir) / "checkpoint.npz").is_file():
+        paths.append(write_atomic(out / "materials.csv", material_table(run_dir, spec, catalog, front)
+                                  .to_csv(index=False)))
     return paths
 
 
@@ -88,6 +92,34 @@ def run_trace(run_dir) -> dict:
     meta, settings = read_settings(RunFolder(Path(run_dir)))
     spec_hash = hashlib.sha256((Path(run_dir) / "spec.toml").read_bytes()).hexdigest()
     return {"seed": settings.seed, "spec hash (SHA-256)": spec_hash, "run started": meta.get("start_time", "?")}
+
+
+def material_table(run_dir, spec: Spec, catalog: Catalog, front: pd.DataFrame) -> pd.DataFrame:
+    """Per material searched: designs on the front and its best one, or the limit that keeps it off.
+
+    Off the front, the island's least-violating design names the limit it breaks most (from the
+    checkpoint's populations).
+    """
+    state = checkpoint.load(Path(run_dir))
+    names = list(catalog.materials)
+    objectives = list(objective_columns(spec))
+    rows = []
+    for isl in state.islands:
+        mid = names[isl.material]
+        mine = front[front["material"] == mid]
+        row = {"material": mid, "class": catalog.materials[mid].class_, "designs_on_front": len(mine)}
+        if len(mine):
+            best = mine.index[knee_index(mine[objectives].to_numpy())] if len(mine) > 1 else mine.index[0]
+            row.update(best_front_row=int(best), volume_cm3=mine.loc[best, "volume_cm3"],
+                       total_loss_w=mine.loc[best, "total_loss_w"], cost=mine.loc[best, "cost"], kept_off_by="")
+        elif len(isl.G):
+            closest = int(np.argmin(np.maximum(isl.G, 0).sum(axis=1)))
+            worst = int(np.argmax(isl.G[closest]))
+            feasible = bool(np.all(isl.G[closest] <= 0))
+            row.update(best_front_row=None, kept_off_by="dominated by other materials" if feasible else
+                       f"{CONSTRAINTS[worst]} ({isl.G[closest, worst]:+.0%} over its limit at best)")
+        rows.append(row)
+    return pd.DataFrame(rows)
 
 
 def write_knee_sheet(run_dir):
