@@ -87,3 +87,16 @@ def test_init_writes_demo_spec_and_refuses_to_overwrite(tmp_path, capsys):
     assert target.read_text() == demo_spec_path().read_text()
     assert main(["init", str(target)]) == 2
     assert "--force" in capsys.readouterr().err
+
+
+def test_json_carries_every_input_for_a_hand_recomputation(tmp_path, capsys):
+    src = tmp_path / "one.csv"
+    src.write_text(HEADER + ROW)
+    assert main(["evaluate", str(demo_spec_path()), str(src), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert {"bus_v", "line_hz", "efficiency", "power_w"} <= set(data["inputs"]["converter"])
+    assert {"ambient_c", "hot_spot_max_c", "current_limit_factor"} <= set(data["inputs"]["limits"])
+    assert {"model", "mounting", "emissivity", "winding_conductivity_w_mk"} <= set(data["inputs"]["thermal"])
+    assert data["shape"]["family"] == "ETD" and set(data["shape"]["dims_mm"]) == set("abcdef")
+    assert data["design"]["gaps"] == 1 and {"length_mm", "width_mm", "height_mm"} <= set(data["figures"])
+    assert {"a_min_mm2", "core_box_mm"} <= set(data["core"])
