@@ -103,7 +103,7 @@ def front_volume_loss(front: pd.DataFrame, catalog, knee: int | None = None):
         ax.add_artist(first)
         lo, hi = front["cost"].min(), front["cost"].max()
         handles = [ax.scatter([], [], s=s, color="grey", alpha=0.5) for s in (20, 110, 200)]
-        ax.legend(handles, [f"{v:.1f}" for v in (lo, (lo + hi) / 2, hi)], title="cost [currency units]",
+        ax.legend(handles, [f"{v:.1f}" for v in (lo, (lo + hi) / 2, hi)], title=f"cost [{plain(catalog.costs.currency)}]",
                   loc="lower left", fontsize=8)
         return fig
 
@@ -119,8 +119,8 @@ def pairwise(front: pd.DataFrame, catalog):
             for cls in sorted(set(classes)):
                 sel = classes == cls
                 ax.scatter(front.loc[sel, x], front.loc[sel, y], s=18, color=colours[cls], label=cls, alpha=0.8)
-            ax.set_xlabel(axis_label(x))
-            ax.set_ylabel(axis_label(y))
+            ax.set_xlabel(axis_label(x, catalog.costs.currency))
+            ax.set_ylabel(axis_label(y, catalog.costs.currency))
         axes[0].legend(fontsize=7, title="material class")
         fig.suptitle("Pareto front, objectives in pairs")
         fig.tight_layout()
