@@ -15,6 +15,7 @@ from fluxfront.catalog import CatalogError
 from fluxfront.errors import InputError
 
 from . import commands
+from . import parser as arguments
 
 EXIT_BAD_INPUT = 2
 EXIT_NO_FEASIBLE = commands.EXIT_NO_FEASIBLE
@@ -29,7 +30,7 @@ def build_parser() -> argparse.ArgumentParser:
                     "gap, wire and switching frequency together for the volume-loss-cost Pareto front.")
     parser.add_argument("--version", action="version", version=f"fluxfront {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    commands.register(sub)
+    arguments.register(sub)
     return parser
 
 
