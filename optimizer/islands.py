@@ -12,6 +12,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from fluxfront.design.designs import Designs
 from fluxfront.design.tolerance import TolerantContext, evaluate_tolerant
 
 from . import operators
@@ -50,14 +51,20 @@ class Evaluated:
     feasible: np.ndarray
 
 
-def search_contract(ctx: TolerantContext, space: DesignSpace, X: np.ndarray):
+def search_contract(ctx: TolerantContext, spaces: list[DesignSpace], rows: list[np.ndarray]):
     """The search contract: encoded rows X -> objectives F (minimised) and constraints G (met when <= 0).
 
-    F is volume, loss and cost (``Context.objectives``); G holds ``design.evaluator.CONSTRAINTS``,
-    each at its worst tolerance corner when the spec's tolerances are on.
+    F is volume, loss and cost (``Context.objectives``); G holds ``design.evaluator.CONSTRAINTS``, each
+    at its worst tolerance corner when the spec's tolerances are on.  The rows of several spaces
+    (islands) are evaluated as one batch -- a design's numbers do not depend on its batch -- and
+    returned per space as (F, G, feasible).
     """
-    ev = evaluate_tolerant(ctx, space.decode(X))
-    return ev.objectives, ev.constraints, ev.feasible
+    sizes = [len(x) for x in rows]
+    if sum(sizes) == 0:
+        return [(np.zeros((0, 3)), np.zeros((0, 0)), np.zeros(0, dtype=bool)) for _ in rows]
+    ev = evaluate_tolerant(ctx, Designs.concat([sp.decode(x) for sp, x in zip(spaces, rows) if len(x)]))
+    edges = np.cumsum([0] + sizes)
+    return [(ev.objectives[a:b], ev.constraints[a:b], ev.feasible[a:b]) for a, b in zip(edges[:-1], edges[1:])]
 
 
 def new_island(material: int, space: DesignSpace, size: int, seed_seq: np.random.SeedSequence) -> Island:
@@ -110,20 +117,21 @@ def _offspring(island: Island, space: DesignSpace, rng: np.random.Generator) -> 
 
 def evolve(ctx: TolerantContext, islands: list[Island], spaces: list[DesignSpace], first_generation: int,
            generations: int) -> tuple[list[Island], list[Evaluated]]:
-    """Run ``generations`` generations of each island: breed, evaluate (one batch per island), survive."""
+    """Run ``generations`` generations of each island: breed, evaluate (all islands' offspring of a
+    generation as one batch), survive."""
     records = []
     islands = list(islands)
     for g in range(generations):
-        for k, (island, space) in enumerate(zip(islands, spaces)):
-            rng = island.generator()
-            kids = _offspring(island, space, rng)
-            if len(kids):
-                f_kids, g_kids, ok = search_contract(ctx, space, kids)
-                records.append(Evaluated(k, first_generation + g, kids, f_kids, g_kids, ok))
+        rngs = [island.generator() for island in islands]
+        kids = [_offspring(island, space, rng) for island, space, rng in zip(islands, spaces, rngs)]
+        results = search_contract(ctx, spaces, kids)
+        for k, (island, rng, x, (f_kids, g_kids, ok)) in enumerate(zip(islands, rngs, kids, results)):
+            if len(x):
+                records.append(Evaluated(k, first_generation + g, x, f_kids, g_kids, ok))
                 if len(island.F) == 0:
-                    X, F, G = kids, f_kids, g_kids
+                    X, F, G = x, f_kids, g_kids
                 else:
-                    X, F, G = np.vstack([island.X, kids]), np.vstack([island.F, f_kids]), np.vstack([island.G, g_kids])
+                    X, F, G = np.vstack([island.X, x]), np.vstack([island.F, f_kids]), np.vstack([island.G, g_kids])
                 keep = operators.survive(F, G, island.size)
                 island = replace(island, X=X[keep], F=F[keep], G=G[keep])
             islands[k] = replace(island, rng_state=rng.bit_generator.state)

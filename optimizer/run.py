@@ -55,6 +55,7 @@ REFERENCE_SAMPLE = 4096      # random designs evaluated to fix the hypervolume r
 PARETO_EVERY = 10            # generations between rewrites of pareto.csv (always at the end)
 SYNC_GENERATIONS = 5         # generations per chunk; budgets change only at multiples of it
 BUDGET_FLOOR = 0.3           # share of each generation's evaluations spread evenly over the islands
+BUDGET_CAP = 0.5             # most of a generation one island may take: two workers can then share it evenly
 KEEP_ALL_ROWS = 100_000      # --keep-all rows per Parquet part
 
 
@@ -138,7 +139,16 @@ def _set_budgets(state: State, settings: Settings) -> None:
     total = settings.population * k
     contrib = state.archive.contributions(state.reference, k)
     share = np.full(k, 1.0 / k) if contrib.sum() <= 0 else contrib / contrib.sum()
-    budget = np.maximum(np.rint(total * (BUDGET_FLOOR / k + (1 - BUDGET_FLOOR) * share)), 2).astype(int)
+    share = BUDGET_FLOOR / k + (1 - BUDGET_FLOOR) * share
+    if k > 1:                                       # no island above BUDGET_CAP: the rest share the excess
+        for _ in range(k):
+            over = share > BUDGET_CAP
+            if not over.any():
+                break
+            excess = float((share[over] - BUDGET_CAP).sum())
+            share[over] = BUDGET_CAP
+            share[~over] += excess * share[~over] / share[~over].sum()
+    budget = np.maximum(np.rint(total * share), 2).astype(int)
     state.islands = [replace(isl, offspring=int(b)) for isl, b in zip(state.islands, budget)]
 
 
