@@ -120,6 +120,8 @@ def fit_bands(f, b, pv, path) -> list[Band]:
                 continue
             trial = sorted(fit_bands(f[lo], b[lo], pv[lo], path) + [_fit_band(f[hi], b[hi], pv[hi])],
                            key=lambda x: x.f_min)
+            if len(trial) > MAX_BANDS:                   # the lower side split on its own: keep to the cap
+                continue
             err = _worst(trial, f, b, pv)
             if best is None or err < best[0]:
                 best = (err, trial)

@@ -398,6 +398,11 @@ def load_catalog(extra=()) -> Catalog:
     for mid, mat in acc["materials"].items():
         if not any(s.family in mat.families for s in acc["shapes"].values()):
             raise CatalogError(f"material '{mid}': no shape in the catalog belongs to its families {mat.families}")
+        # a discrete gap needs a leg to sit in: without one no model covers its fringing, loss or cost
+        ungapped = [f for f in mat.families if f in acc["families"] and acc["families"][f].gap_legs == 0]
+        if mat.gap_kind == "discrete" and ungapped:
+            raise CatalogError(f"material '{mid}': field 'families' = {mat.families}: family '{ungapped[0]}' has "
+                               f"gap_legs = 0; expected families with a gapped leg for gap_kind = 'discrete'")
     wires = {w.id: w for w in _round_wires(acc["round"])}
     for lid, entry in acc["litz"].items():
         wires[lid] = _litz_wire(entry, acc["round"])

@@ -18,7 +18,7 @@ reading twice the model's is a wrong core, turn count or measurement, not a cali
 from __future__ import annotations
 
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Annotated
 
@@ -84,6 +84,12 @@ def _inductance_uh(ctx: Context, d: Designs) -> float:
     return float(circuit(ctx, d, build(ctx, d)).l0[0] * 1e6)
 
 
+def _inductance_at_bias_uh(ctx: Context, d: Designs, current: float) -> float:
+    """Incremental inductance at a DC ``current`` [A]: zero-bias value times the permeability kept [uH]."""
+    cc = circuit(ctx, d, build(ctx, d))
+    return float(cc.l0[0] * cc.kept_fraction(np.array([current]))[0] * 1e6)
+
+
 def _with(ctx: Context, **sections) -> Context:
     return prepare(ctx.spec.model_copy(update=sections), ctx.catalog)
 
@@ -113,11 +119,11 @@ def _core_volume_and_band(ctx: Context, d: Designs, f: float):
     return float(geo.ve[0] * M.stacking_factor[m] * M.cut_loss_factor[m]), int(band[0])
 
 
-def core_loss_at(catalog: Catalog, ctx: Context, d: Designs, f: float, b: float) -> float:
+def core_loss_at(ctx: Context, d: Designs, f: float, b: float) -> float:
     """Core loss of the design's core under a sinusoidal flux of peak ``b`` [T] at ``f`` [Hz], at the
     material's loss reference temperature [W]."""
     ve, band = _core_volume_and_band(ctx, d, f)
-    M, m = catalog.material_arrays, int(d.material[0])
+    M, m = ctx.catalog.material_arrays, int(d.material[0])
     return float(core_loss.steinmetz(f, b, M.band_k[m, band], M.band_alpha[m, band], M.band_beta[m, band]) * ve)
 
 
@@ -130,12 +136,16 @@ def calibrate(ctx: Context, d: Designs, meas: Measured) -> Calibration:
         factors["permeability_factor"] = _checked(
             "permeability_factor", meas.inductance_uh / before_l,
             "check the turns and the core before calibrating")
-        after_l = before_l * factors["permeability_factor"]
+        ctx_after, d_after = ctx, replace(d, mu_scale=d.mu_factor * factors["permeability_factor"])
     else:
         factors["gap_factor"] = _fit_gap(ctx, d, meas.inductance_uh)
-        after_l = _inductance_uh(_with(ctx, model=ctx.spec.model.model_copy(
-            update={"gap_factor": factors["gap_factor"]})), d)
+        ctx_after, d_after = _with(ctx, model=ctx.spec.model.model_copy(update={"gap_factor": factors["gap_factor"]})), d
+    after_l = _inductance_uh(ctx_after, d_after)
     rows.append(("inductance at zero bias [uH]", f"{before_l:.4g}", f"{after_l:.4g}", f"{meas.inductance_uh:.4g}"))
+    if meas.inductance_at_bias_uh is not None:
+        rows.append((f"inductance at {meas.bias_a:g} A DC [uH] (compared, not fitted)",
+                     f"{_inductance_at_bias_uh(ctx, d, meas.bias_a):.4g}",
+                     f"{_inductance_at_bias_uh(ctx_after, d_after, meas.bias_a):.4g}", f"{meas.inductance_at_bias_uh:.4g}"))
     if meas.temperature_rise_k is not None:
         b = build(ctx, d)
         box = tuple(np.sort(b.size[0])[::-1])
@@ -147,7 +157,7 @@ def calibrate(ctx: Context, d: Designs, meas: Measured) -> Calibration:
                      f"{meas.at_loss_w:.4g}", f"{meas.at_loss_w:.4g}"))
     if meas.core_loss_w is not None:
         f, bpk = meas.core_loss_f_khz * 1e3, meas.core_loss_b_mt * 1e-3
-        model = core_loss_at(ctx.catalog, ctx, d, f, bpk)
+        model = core_loss_at(ctx, d, f, bpk)
         factors["loss_factor"] = _checked("loss_factor", meas.core_loss_w / model,
                                           "check the excitation (sinusoidal peak flux) and the core volume")
         rows.append((f"core loss at {meas.core_loss_f_khz:g} kHz, {meas.core_loss_b_mt:g} mT [W]", f"{model:.4g}",

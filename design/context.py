@@ -1,6 +1,6 @@
 """What the evaluator computes once per spec and catalog, before any design: the evaluation context.
 
-Three facts keep the population work small, each exact within the CCM model:
+Four facts keep the population work small, each exact within the CCM model:
 * the ripple flux swing ``dB = v_in d / (N Ae f)`` does not depend on the inductance, so the
   line-cycle mean of the iGSE is ``(N Ae f)^-beta`` times a design-independent integral per
   operating point and Steinmetz band (``OperatingPoint.core_shape``);

@@ -35,9 +35,7 @@ def _natural(spec, box, dt):
 
 
 def _exposed_area(spec, box):
-    length, width, height = box
-    bottom = length * width if spec.thermal.mounting == "free" else 0.0
-    return 2 * height * (length + width) + length * width + bottom
+    return thermal.box_exposed_area(*box, bottom_exposed=spec.thermal.mounting == "free")
 
 
 def _forced(spec, box, dt):

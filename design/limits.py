@@ -33,7 +33,7 @@ DOES_NOT_FIT = 1e3         # normalized violation of a winding that cannot be la
 
 @dataclass(frozen=True)
 class Limits:
-    """Normalized constraints (n, 7) in ``CONSTRAINTS`` order and the raw values they come from."""
+    """Normalized constraints (n, len(CONSTRAINTS)) in ``CONSTRAINTS`` order and the raw values they come from."""
 
     g: np.ndarray
     b_sat: np.ndarray          # (n, n_ops) saturation flux density at the core temperature [T]

@@ -81,7 +81,10 @@ def operating_context(ctx: Context, ambient_rise: float, sag: float) -> Context:
 
 
 def perturbed(designs: Designs, catalog, tol, gap_sign, mu_sign, k_sign) -> Designs:
-    """The designs as built at a corner: gap, permeability and loss coefficient off nominal."""
+    """The designs as built at a corner: gap, permeability and loss coefficient off nominal.
+
+    The signs are -1, 0 or +1 at a corner, or per-design arrays of fractions of the tolerance
+    (Monte Carlo parts)."""
     n = len(designs)
     gap = np.maximum(designs.gap + gap_sign * gap_deviation(designs, catalog, tol), 0.0)
     return replace(designs, gap=gap, mu_scale=designs.mu_factor * (1 + mu_sign * tol.permeability_percent / 100),
@@ -199,10 +202,9 @@ def monte_carlo_yield(ctx: Context, design: Designs, samples: int | None = None,
     rng = np.random.default_rng([seed, 7])
     e_gap, e_mu = (_unit_draws(rng, n, tol.distribution, False) for _ in range(2))
     e_k, e_amb, e_sag = (_unit_draws(rng, n, tol.distribution, True) for _ in range(3))
-    parts = design.take(np.zeros(n, dtype=int))
-    dev = gap_deviation(parts, ctx.catalog, tol)
-    parts = replace(parts, gap=np.maximum(parts.gap + e_gap * dev, 0.0),
-                    mu_scale=1 + e_mu * tol.permeability_percent / 100, k_scale=1 + e_k * tol.steinmetz_k_percent / 100)
+    # each part is a corner of its own: per-part signs scaled by the draws (a calibrated design's
+    # own permeability and loss factors are kept, as at the corners)
+    parts = perturbed(design.take(np.zeros(n, dtype=int)), ctx.catalog, tol, e_gap, e_mu, e_k)
     ambient = np.round(e_amb * tol.ambient_k / AMBIENT_STEP_K) * AMBIENT_STEP_K
     sag = 1 - np.round(e_sag * (1 - tol.line_sag) / SAG_STEP) * SAG_STEP
     g = np.empty((n, len(CONSTRAINTS)))

@@ -158,7 +158,7 @@ def temperature_factor_slope(temperature_c, t_ref, c1, c2):
 GAP_LOSS_KI = {2: 0.388, 1: 0.775}
 
 
-def cut_core_gap_loss(strip_width, gap, f, b_ac, k_i=0.388):
+def cut_core_gap_loss(strip_width, gap, f, b_ac, k_i=GAP_LOSS_KI[2]):
     """Eddy loss near the gaps of a tape-wound cut core [W].
 
     Parameters

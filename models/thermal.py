@@ -164,7 +164,7 @@ def horizontal_plate_nusselt(rayleigh, facing="up"):
     Notes
     -----
     Upper face: ``Nu = 0.54 Ra^(1/4)`` for Ra up to 1e7, ``0.15 Ra^(1/3)`` above (continuous within
-    a few per cent at 1e7); lower face: ``Nu = 0.27 Ra^(1/4)``; characteristic length ``L = A / P``.
+    about 6 % at 1e7: 30.4 against 32.3); lower face: ``Nu = 0.27 Ra^(1/4)``; characteristic length ``L = A / P``.
     The laminar laws are used below their lower Ra bound too (small parts), where they underestimate.
 
     References
@@ -176,6 +176,13 @@ def horizontal_plate_nusselt(rayleigh, facing="up"):
     if facing == "down":
         return 0.27 * ra**0.25
     return np.where(ra <= 1e7, 0.54 * ra**0.25, 0.15 * ra ** (1.0 / 3.0))
+
+
+def box_exposed_area(length, width, height, bottom_exposed=False):
+    """Faces of a box standing on a horizontal face that reach the air [m2]: four sides and the top,
+    and the bottom when it stands free (``bottom_exposed``); on a board the bottom is covered."""
+    length, width, height = (np.asarray(v, dtype=float) for v in (length, width, height))
+    return 2 * height * (length + width) + length * width * (2.0 if bottom_exposed else 1.0)
 
 
 def box_natural_convection(dt, t_amb_c, length, width, height, emissivity, bottom_exposed=False):
@@ -206,7 +213,7 @@ def box_natural_convection(dt, t_amb_c, length, width, height, emissivity, botto
     length, width, height = (np.asarray(v, dtype=float) for v in (length, width, height))
     sides = 2 * height * (length + width)
     top = length * width
-    exposed = sides + top * (2.0 if bottom_exposed else 1.0)
+    exposed = box_exposed_area(length, width, height, bottom_exposed)
     p_side, dp_side = natural_convection(dt, t_amb_c, sides, height, 0.0)
     film = np.asarray(t_amb_c, dtype=float) + dt / 2
     k, nu, pr = air_properties(film)

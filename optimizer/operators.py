@@ -136,12 +136,15 @@ def polynomial_mutation(x: np.ndarray, lower, upper, rng: np.random.Generator, e
 
 
 def unique_new(X: np.ndarray, existing: np.ndarray) -> np.ndarray:
-    """Rows of ``X`` (snapped designs) that are neither in ``existing`` nor repeated in X: a hash set."""
-    seen = {row.tobytes() for row in np.ascontiguousarray(existing, dtype=float)}
-    keep = np.zeros(len(X), dtype=bool)
-    for i, row in enumerate(np.ascontiguousarray(X, dtype=float)):
-        key = row.tobytes()
-        if key not in seen:
-            seen.add(key)
-            keep[i] = True
-    return keep
+    """Which rows of ``X`` (snapped designs) are neither in ``existing`` nor repeated earlier in X.
+
+    A row is new when its first occurrence in ``existing`` followed by ``X`` is itself (numpy's
+    stable row sort; rows compare as numbers, as the archive compares them).
+    """
+    X = np.asarray(X, dtype=float)
+    existing = np.asarray(existing, dtype=float).reshape(-1, X.shape[1])
+    if len(X) == 0:
+        return np.zeros(0, dtype=bool)
+    rows = np.vstack([existing, X])
+    _, first, inverse = np.unique(rows, axis=0, return_index=True, return_inverse=True)
+    return first[np.ravel(inverse)][len(existing):] == np.arange(len(existing), len(rows))

@@ -164,7 +164,9 @@ class DesignSpace:
         d = self.decode(x)
         pair = np.rint(x[:, 0])
         gap = np.where(self.distributed[pair.astype(int)], 0.0, np.rint(x[:, 3]))
-        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.rint(x[:, 6]), d.gaps])
+        # + 0.0 turns the -0.0 that rint gives just below index 0 into 0.0: one design, one row
+        return np.column_stack([pair, d.stack, d.turns, gap, np.rint(x[:, 4]), d.parallel, np.rint(x[:, 6]),
+                                d.gaps]) + 0.0
 
     def grid(self, gaps_mm=None, freqs_khz=None, gap_counts=None) -> np.ndarray:
         """Every distinct design, as encoded rows (for enumeration); gaps, frequencies and gap counts

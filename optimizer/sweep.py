@@ -43,10 +43,10 @@ def local_sweep(space: DesignSpace, state: State, evaluator) -> tuple[int, int]:
         ev = evaluator(space.decode(cand))
         spent += len(cand)
         tried = np.vstack([tried, cand])
-        before = {row.tobytes() for row in archive.X}
+        before = archive.X
         if not archive.update(cand, ev.objectives, ev.feasible, _island_of(space, state, cand, 0)):
             break
-        added += sum(row.tobytes() not in before for row in archive.X)
+        added += int(unique_new(archive.X, before).sum())
     return added, spent
 
 

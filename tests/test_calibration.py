@@ -14,6 +14,7 @@ from fluxfront.design.designs import resolve_designs
 from fluxfront.design.evaluator import evaluate, prepare
 from fluxfront.design.heat import dissipation
 from fluxfront.design.spec import demo_spec_path
+from fluxfront.models import magnetics
 
 DESIGN = dict(material="mnzn_ferrite_100k", shape="ETD49", stack=1, turns=40, gap_mm=3.0, gaps=1,
               wire="litz175x38awg", parallel=1, f_sw_khz=65)
@@ -29,7 +30,7 @@ def _measurements(spec, catalog, row, gap=1.05, heat=0.9, loss=1.2):
     inductance = evaluate(ctx, d).figures["inductance_uh"][0]
     box = tuple(np.sort(build(ctx, d).size[0])[::-1])
     rise = optimize.brentq(lambda dt: dissipation(true, box, dt)[0] - 5.0, 0.1, 500.0, xtol=1e-12)
-    core = calibration.core_loss_at(catalog, ctx, d, 100e3, 0.1) * loss
+    core = calibration.core_loss_at(ctx, d, 100e3, 0.1) * loss
     return d, calibration.Measured(inductance_uh=float(inductance), temperature_rise_k=float(rise), at_loss_w=5.0,
                                    core_loss_w=float(core), core_loss_f_khz=100.0, core_loss_b_mt=100.0)
 
@@ -47,6 +48,23 @@ def test_powder_inductance_calibrates_the_permeability(demo_spec, catalog):
     model = evaluate(prepare(demo_spec, catalog), d).figures["inductance_uh"][0]
     result = calibration.calibrate(prepare(demo_spec, catalog), d, calibration.Measured(inductance_uh=model * 0.92))
     assert result.factors["permeability_factor"] == pytest.approx(0.92, rel=1e-9)
+
+
+def test_inductance_at_bias_is_compared_not_fitted(demo_spec, catalog):
+    # powder core: the model's L(I) = L0 x roll-off fraction at H = N I / le (models.magnetics); a
+    # permeability 8 % low scales L0 and leaves the fraction, so after calibration the row meets the reading
+    d = resolve_designs(pd.DataFrame([POWDER]), catalog)
+    ctx = prepare(demo_spec, catalog)
+    l0 = evaluate(ctx, d).figures["inductance_uh"][0]
+    M, m = catalog.material_arrays, d.material[0]
+    h = POWDER["turns"] * 8.0 / catalog.core_geometry(d.shape, d.stack).le[0]
+    frac = magnetics.powder_permeability_fraction(h, M.rolloff_a[m], M.rolloff_b[m], M.rolloff_c[m])
+    meas = calibration.Measured(inductance_uh=l0 * 0.92, inductance_at_bias_uh=l0 * 0.92 * frac, bias_a=8.0)
+    result = calibration.calibrate(ctx, d, meas)
+    row = next(r for r in result.rows if r[0].startswith("inductance at 8 A DC"))
+    assert float(row[1]) == pytest.approx(l0 * frac, rel=1e-3)      # the table shows 4 significant digits
+    assert float(row[2]) == pytest.approx(float(row[3]), rel=1e-3)
+    assert set(result.factors) == {"permeability_factor"}          # compared only: nothing fitted from it
 
 
 def test_implausible_reading_is_refused(demo_spec, catalog):
@@ -73,7 +91,7 @@ def test_calibrate_command_writes_what_the_next_run_uses(tmp_path, demo_spec, ca
                  str(tmp_path / "cal"), "--out", str(tmp_path / "e.csv")]) == 0
     again = pd.read_csv(tmp_path / "e.csv").iloc[0]
     assert again["inductance_uh"] == pytest.approx(meas.inductance_uh, rel=1e-6)
-    core = calibration.core_loss_at(cal, prepare(demo_spec, cal), resolve_designs(pd.DataFrame([DESIGN]), cal),
+    core = calibration.core_loss_at(prepare(demo_spec, cal), resolve_designs(pd.DataFrame([DESIGN]), cal),
                                   100e3, 0.1)
     assert core == pytest.approx(meas.core_loss_w, rel=1e-9)
     assert (tmp_path / "cal" / "calibration.toml").is_file() and (tmp_path / "cal" / "calibration.md").is_file()

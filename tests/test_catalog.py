@@ -66,6 +66,16 @@ def test_broken_material_gives_one_line_and_exit_2(tmp_path, capsys, old, new, m
     assert str(path) in err and "material 'my_ferrite'" in err and message in err
 
 
+def test_discrete_gap_material_on_a_ring_family_is_refused(tmp_path, capsys):
+    # a ring family has no leg for a ground gap (gap_legs = 0 in shapes.toml): no model covers the
+    # fringing, loss or cost of a gap there, so the search must not be offered one
+    (tmp_path / "materials.toml").write_text(GOOD.replace('families = ["E"]', 'families = ["E", "T"]'))
+    assert main(["catalog", "check", str(tmp_path)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1
+    assert "material 'my_ferrite'" in err and "family 'T' has gap_legs = 0" in err and "gap_kind" in err
+
+
 @pytest.mark.parametrize("text,message", [
     ('[[shape]]\nid = "E99"\nfamily = "E"\ndims = { a = 10, b = 5, c = 5, d = 3, e = 12, f = 4 }\n', "a > e > f"),
     ('[[shape]]\nid = "T1"\nfamily = "T"\ndims = { od = 10, id = 12, h = 5 }\n', "od > id"),

@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 
 from fluxfront.catalog import load_catalog
-from fluxfront.catalog.fitting import fit_loss, fit_rolloff, read_points
+from fluxfront.catalog.fitting import MAX_BANDS, fit_loss, fit_rolloff, read_points
 from fluxfront.cli.main import main
 from fluxfront.models import core_loss, magnetics
 
@@ -45,6 +45,21 @@ def test_two_regimes_are_split_into_two_bands(tmp_path):
     assert len(fit.bands) >= 2
     assert np.max(np.abs(fit.errors)) < 0.10
     assert all(lo.f_max == hi.f_min for lo, hi in zip(fit.bands, fit.bands[1:]))     # contiguous, no overlap
+
+
+def test_band_count_stays_within_the_cap(tmp_path):
+    # five regimes with alternating slopes (alpha 1.2/2.2, continuous at their edges) cannot be fitted by
+    # three bands within 10 %: the splitting must stop at MAX_BANDS rather than add a fourth
+    edges = [0, 30e3, 60e3, 110e3, 180e3, 1e9]
+    alphas = [1.2, 2.2, 1.2, 2.2, 1.2]
+    bands, k = [], 3.18
+    for i, (lo, hi, a) in enumerate(zip(edges, edges[1:], alphas)):
+        if i:
+            k = k * lo ** (alphas[i - 1] - a)
+        bands.append((lo + (1 if i else 0), hi, k, a, 2.6))
+    path = _loss_points(tmp_path / "p.csv", bands, noise=0.0)
+    fit = fit_loss(read_points(path, {"f": True, "b": True, "pv": True, "t": False})[0], path)
+    assert 2 <= len(fit.bands) <= MAX_BANDS
 
 
 def test_temperature_fit_recovered(tmp_path):
