@@ -5,6 +5,8 @@ import numpy as np
 from pymoo.indicators.hv import HV
 from pymoo.util.nds.non_dominated_sorting import NonDominatedSorting
 
+from .operators import first_occurrence
+
 
 def non_dominated(F: np.ndarray) -> np.ndarray:
     """Indices of the rows of F (minimised) that no other row dominates."""
@@ -56,8 +58,7 @@ class ParetoArchive:
         X = np.vstack([self.X, X[feasible]])
         F = np.vstack([self.F, F[feasible]])
         tags = np.concatenate([self.tag, tag[feasible]])
-        _, first = np.unique(X, axis=0, return_index=True)
-        first = np.sort(first)
+        first = np.flatnonzero(first_occurrence(X))
         X, F, tags = X[first], F[first], tags[first]
         keep = np.sort(non_dominated(F))
         X, F, tags = X[keep], F[keep], tags[keep]

@@ -135,16 +135,26 @@ def polynomial_mutation(x: np.ndarray, lower, upper, rng: np.random.Generator, e
     return np.clip(np.where(mutate, x + delta * span, x), lower, upper)
 
 
-def unique_new(X: np.ndarray, existing: np.ndarray) -> np.ndarray:
-    """Which rows of ``X`` (snapped designs) are neither in ``existing`` nor repeated earlier in X.
+def first_occurrence(rows: np.ndarray) -> np.ndarray:
+    """Whether each row is the first of its value in ``rows`` (rows compare as numbers).
 
-    A row is new when its first occurrence in ``existing`` followed by ``X`` is itself (numpy's
-    stable row sort; rows compare as numbers, as the archive compares them).
+    A stable lexicographic sort groups equal rows in their original order.  Not ``np.unique(axis=0)``:
+    its comparison of structured rows turns a Ctrl-C that arrives during the call into a TypeError,
+    and the run could then no longer stop cleanly.
     """
+    rows = np.asarray(rows, dtype=float)
+    if len(rows) == 0:
+        return np.zeros(0, dtype=bool)
+    order = np.lexsort(rows.T[::-1])
+    ranked = rows[order]
+    starts = np.concatenate([[True], np.any(ranked[1:] != ranked[:-1], axis=1)])
+    first = np.empty(len(rows), dtype=bool)
+    first[order] = starts
+    return first
+
+
+def unique_new(X: np.ndarray, existing: np.ndarray) -> np.ndarray:
+    """Which rows of ``X`` (snapped designs) are neither in ``existing`` nor repeated earlier in X."""
     X = np.asarray(X, dtype=float)
     existing = np.asarray(existing, dtype=float).reshape(-1, X.shape[1])
-    if len(X) == 0:
-        return np.zeros(0, dtype=bool)
-    rows = np.vstack([existing, X])
-    _, first, inverse = np.unique(rows, axis=0, return_index=True, return_inverse=True)
-    return first[np.ravel(inverse)][len(existing):] == np.arange(len(existing), len(rows))
+    return first_occurrence(np.vstack([existing, X]))[len(existing):]
